@@ -1,0 +1,7 @@
+// daemon/main.cpp: the `ampledger` command line.
+#include <cstdio>
+
+int main() {
+  std::puts("ampledger");
+  return 0;
+}
