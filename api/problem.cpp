@@ -16,6 +16,7 @@ const char* ReasonPhrase(int http_status) {
     case 411: return "Length Required";
     case 413: return "Content Too Large";
     case 415: return "Unsupported Media Type";
+    case 431: return "Request Header Fields Too Large";
     case 503: return "Service Unavailable";
     default: return "Internal Server Error";
   }
@@ -23,29 +24,29 @@ const char* ReasonPhrase(int http_status) {
 
 }  // namespace
 
-Problem ProblemFromStatus(const Status& status, std::string parameter) {
-  Problem problem;
+Problem ProblemWithStatus(int http_status, std::string detail) {
+  return Problem{http_status, ReasonPhrase(http_status), std::move(detail)};
+}
+
+Problem ProblemFromStatus(const Status& status) {
   switch (status.code()) {
-    case StatusCode::kInvalidArgument: problem.http_status = 400; break;
-    case StatusCode::kNotFound: problem.http_status = 404; break;
-    case StatusCode::kUnavailable: problem.http_status = 503; break;
-    default: problem.http_status = 500; break;
+    case StatusCode::kInvalidArgument: return ProblemWithStatus(400, status.message());
+    case StatusCode::kNotFound: return ProblemWithStatus(404, status.message());
+    case StatusCode::kUnavailable: return ProblemWithStatus(503, status.message());
+    default:
+      // Internal failures say what failed, never how (no paths, no SQL).
+      return ProblemWithStatus(500, std::string(StatusCodeName(status.code())) +
+                                        " while answering; see the daemon's log");
   }
-  // With type about:blank the title is the reason phrase (RFC 9457 section 4.2.1).
-  problem.title = ReasonPhrase(problem.http_status);
-  problem.detail = status.message();
-  problem.parameter = std::move(parameter);
-  return problem;
 }
 
 std::string ProblemJson(const Problem& problem) {
   nlohmann::json body = {
       {"type", "about:blank"},
-      {"title", problem.title.empty() ? ReasonPhrase(problem.http_status) : problem.title},
+      {"title", problem.title},
       {"status", problem.http_status},
       {"detail", problem.detail},
   };
-  if (!problem.parameter.empty()) body["parameter"] = problem.parameter;
   return body.dump();
 }
 

@@ -11,15 +11,17 @@ namespace ampledger {
 
 struct Problem {
   int http_status = 500;
-  std::string title;      // the same for every occurrence of this kind of problem
-  std::string detail;     // this occurrence: which parameter is wrong and why
-  std::string parameter;  // the offending query/path/body parameter, if any (extension member)
+  std::string title;   // the reason phrase (type is about:blank, RFC 9457 section 4.2.1)
+  std::string detail;  // this occurrence: which parameter is wrong and why
 };
 
 // InvalidArgument -> 400, NotFound -> 404, Unavailable -> 503, IOError/Corruption -> 500.
-Problem ProblemFromStatus(const Status& status, std::string parameter = "");
+Problem ProblemFromStatus(const Status& status);
 
-// The application/problem+json body (type about:blank, title, status, detail, parameter).
+// A problem with an explicit HTTP status (401, 405, 411, 413, 415 ...).
+Problem ProblemWithStatus(int http_status, std::string detail);
+
+// The application/problem+json body: type, title, status, detail.
 std::string ProblemJson(const Problem& problem);
 
 inline constexpr const char* kProblemContentType = "application/problem+json";

@@ -1,0 +1,220 @@
+#include "api/http_server.h"
+
+#include <httplib.h>
+
+#include <regex>
+#include <thread>
+
+#include "api/problem.h"
+
+namespace ampledger {
+
+namespace {
+
+struct RouteEntry {
+  std::string method;
+  std::regex pattern;
+  HttpHandler handler;
+};
+
+void SendProblem(httplib::Response& response, const Problem& problem) {
+  response.status = problem.http_status;
+  response.set_content(ProblemJson(problem), kProblemContentType);
+}
+
+// Refusals that must happen before httplib reads a body (see the header).
+std::optional<Problem> RefuseBeforeBody(const httplib::Request& request) {
+  if (request.has_header("Transfer-Encoding")) {
+    return ProblemWithStatus(411, "Transfer-Encoding is not accepted; send the body with "
+                                  "Content-Length");
+  }
+  if (request.has_header("Content-Encoding")) {
+    return ProblemWithStatus(415, "Content-Encoding is not accepted; send the body unencoded");
+  }
+  bool has_body_method = request.method == "POST" || request.method == "PUT" ||
+                         request.method == "PATCH";
+  if (has_body_method && !request.has_header("Content-Length")) {
+    return ProblemWithStatus(411, "a request body needs a Content-Length header");
+  }
+  if (request.has_header("Content-Length")) {
+    const std::string length = request.get_header_value("Content-Length");
+    if (length.empty() || length.size() > 12 ||
+        length.find_first_not_of("0123456789") != std::string::npos) {
+      return ProblemWithStatus(400, "Content-Length \"" + length + "\" is not a number");
+    }
+    if (std::stoull(length) > kMaxRequestBodyBytes) {
+      return ProblemWithStatus(413, "the body is larger than " +
+                                        std::to_string(kMaxRequestBodyBytes) + " bytes");
+    }
+  }
+  return std::nullopt;
+}
+
+}  // namespace
+
+const std::string* HttpRequest::Query(const std::string& name) const {
+  auto found = query.find(name);
+  return found == query.end() ? nullptr : &found->second;
+}
+
+HttpResponse HttpResponse::Json(std::string body, int status) {
+  HttpResponse response;
+  response.status = status;
+  response.body = std::move(body);
+  return response;
+}
+
+class HttpServer::Impl {
+ public:
+  explicit Impl(const HttpConfig& config) : config_(config) {}
+
+  void Dispatch(const httplib::Request& raw, httplib::Response& response) {
+    std::string allowed;
+    for (const RouteEntry& route : routes_) {
+      std::smatch match;
+      if (!std::regex_match(raw.path, match, route.pattern)) continue;
+      if (route.method != raw.method) {
+        allowed += (allowed.empty() ? "" : ", ") + route.method;
+        continue;
+      }
+      Answer(route, match, raw, response);
+      return;
+    }
+    if (!allowed.empty()) {
+      response.set_header("Allow", allowed);
+      SendProblem(response, ProblemWithStatus(405, raw.method + " is not allowed on " +
+                                                       raw.path + "; allowed: " + allowed));
+      return;
+    }
+    SendProblem(response, ProblemWithStatus(404, "no resource at " + raw.path));
+  }
+
+  void Answer(const RouteEntry& route, const std::smatch& match, const httplib::Request& raw,
+              httplib::Response& response) {
+    HttpRequest request;
+    request.method = raw.method;
+    request.path = raw.path;
+    for (size_t i = 1; i < match.size(); ++i) request.path_params.push_back(match[i].str());
+    request.query.insert(raw.params.begin(), raw.params.end());
+    request.body = raw.body;
+    request.authorization = raw.get_header_value("Authorization");
+    request.accept = raw.get_header_value("Accept");
+    Result<HttpResponse> answer = route.handler(request);
+    if (!answer.ok()) {
+      SendProblem(response, ProblemFromStatus(answer.status()));
+      return;
+    }
+    response.status = answer->status;
+    for (const auto& [name, value] : answer->headers) response.set_header(name, value);
+    response.set_content(answer->body, answer->content_type);
+  }
+
+  void Install() {
+    server_->new_task_queue = [threads = config_.threads] {
+      return new httplib::ThreadPool(static_cast<size_t>(threads));
+    };
+    server_->set_payload_max_length(kMaxRequestBodyBytes);
+    server_->set_keep_alive_timeout(5);
+    server_->set_read_timeout(5);
+    server_->set_write_timeout(5);
+    server_->set_pre_routing_handler([](const httplib::Request& request,
+                                        httplib::Response& response) {
+      std::optional<Problem> refusal = RefuseBeforeBody(request);
+      if (!refusal) return httplib::Server::HandlerResponse::Unhandled;
+      response.set_header("Connection", "close");  // the unread body must not be parsed
+      SendProblem(response, *refusal);
+      return httplib::Server::HandlerResponse::Handled;
+    });
+    server_->set_exception_handler([](const httplib::Request&, httplib::Response& response,
+                                      std::exception_ptr) {
+      SendProblem(response, ProblemWithStatus(500, "the request failed inside the daemon; "
+                                                   "see its log"));
+    });
+    // Errors httplib raises itself (413, 400 on a bad request line) get a problem body too.
+    server_->set_error_handler([](const httplib::Request&, httplib::Response& response) {
+      if (!response.body.empty()) return;
+      const char* detail = response.status == 413 ? "the request is larger than allowed"
+                                                  : "the request could not be read as HTTP";
+      SendProblem(response, ProblemWithStatus(response.status, detail));
+    });
+    auto dispatch = [this](const httplib::Request& request, httplib::Response& response) {
+      Dispatch(request, response);
+    };
+    server_->Get(".*", dispatch);
+    server_->Post(".*", dispatch);
+    server_->Put(".*", dispatch);
+    server_->Delete(".*", dispatch);
+    server_->Patch(".*", dispatch);
+    server_->Options(".*", dispatch);
+  }
+
+  Status Start() {
+    if (!config_.tls_certificate.empty()) {
+      server_ = std::make_unique<httplib::SSLServer>(config_.tls_certificate.c_str(),
+                                                     config_.tls_private_key.c_str());
+    } else {
+      server_ = std::make_unique<httplib::Server>();
+    }
+    if (!server_->is_valid()) {
+      return Status::InvalidArgument("http: cannot load the TLS certificate or key");
+    }
+    Install();
+    std::string host;
+    int port = 0;
+    if (Status parsed = SplitListen(config_.listen, &host, &port); !parsed.ok()) return parsed;
+    if (port == 0) {
+      int bound = server_->bind_to_any_port(host);
+      if (bound <= 0) return Status::IOError("http: cannot bind " + config_.listen);
+      port_ = static_cast<std::uint16_t>(bound);
+    } else {
+      if (!server_->bind_to_port(host, port)) {
+        return Status::IOError("http: cannot bind " + config_.listen);
+      }
+      port_ = static_cast<std::uint16_t>(port);
+    }
+    thread_ = std::thread([this] { server_->listen_after_bind(); });
+    return Status::Ok();
+  }
+
+  void Stop() {
+    if (server_) server_->stop();
+    if (thread_.joinable()) thread_.join();
+  }
+
+  static Status SplitListen(const std::string& listen, std::string* host, int* port) {
+    size_t colon = listen.rfind(':');
+    if (colon == std::string::npos) {
+      return Status::InvalidArgument("http.listen: \"" + listen + "\" is not host:port");
+    }
+    *host = listen.substr(0, colon);
+    if (host->size() >= 2 && host->front() == '[' && host->back() == ']') {
+      *host = host->substr(1, host->size() - 2);
+    }
+    try {
+      *port = std::stoi(listen.substr(colon + 1));
+    } catch (const std::exception&) {
+      return Status::InvalidArgument("http.listen: \"" + listen + "\" has no port number");
+    }
+    return Status::Ok();
+  }
+
+  HttpConfig config_;
+  std::vector<RouteEntry> routes_;
+  std::unique_ptr<httplib::Server> server_;
+  std::thread thread_;
+  std::uint16_t port_ = 0;
+};
+
+HttpServer::HttpServer(const HttpConfig& config) : impl_(std::make_unique<Impl>(config)) {}
+HttpServer::~HttpServer() { impl_->Stop(); }
+
+void HttpServer::Route(const std::string& method, const std::string& pattern,
+                       HttpHandler handler) {
+  impl_->routes_.push_back({method, std::regex(pattern), std::move(handler)});
+}
+
+Status HttpServer::Start() { return impl_->Start(); }
+void HttpServer::Stop() { impl_->Stop(); }
+std::uint16_t HttpServer::port() const { return impl_->port_; }
+
+}  // namespace ampledger

@@ -1,0 +1,142 @@
+#include "api/http_server.h"
+
+#include <arpa/inet.h>
+#include <doctest/doctest.h>
+#include <httplib.h>
+#include <netinet/in.h>
+#include <sys/socket.h>
+#include <unistd.h>
+
+#include <nlohmann/json.hpp>
+#include <stdexcept>
+#include <string>
+
+namespace ampledger {
+namespace {
+
+// Writes `request` to the server on a fresh TCP connection and returns all it answers.
+std::string RawExchange(std::uint16_t port, const std::string& request) {
+  int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+  sockaddr_in address{};
+  address.sin_family = AF_INET;
+  address.sin_port = htons(port);
+  address.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+  timeval timeout{5, 0};
+  ::setsockopt(fd, SOL_SOCKET, SO_RCVTIMEO, &timeout, sizeof timeout);
+  REQUIRE(::connect(fd, reinterpret_cast<sockaddr*>(&address), sizeof address) == 0);
+  ::send(fd, request.data(), request.size(), MSG_NOSIGNAL);
+  std::string answer;
+  char buffer[4096];
+  ssize_t length;
+  while ((length = ::recv(fd, buffer, sizeof buffer, 0)) > 0) answer.append(buffer, length);
+  ::close(fd);
+  return answer;
+}
+
+struct ServerFixture {
+  ServerFixture() : server(Config()) {
+    server.Route("GET", "/v1/things/([a-z]+)", [](const HttpRequest& request) {
+      return Result<HttpResponse>(
+          HttpResponse::Json(nlohmann::json{{"thing", request.path_params[0]}}.dump()));
+    });
+    server.Route("POST", "/v1/things/([a-z]+)", [](const HttpRequest& request) {
+      return Result<HttpResponse>(HttpResponse::Json(request.body, 201));
+    });
+    server.Route("GET", "/v1/bad", [](const HttpRequest&) -> Result<HttpResponse> {
+      return Status::InvalidArgument("query parameter \"from\": expected an RFC 3339 time");
+    });
+    server.Route("GET", "/v1/throws", [](const HttpRequest&) -> Result<HttpResponse> {
+      throw std::runtime_error("secret internal detail /var/lib/x.db");
+    });
+    REQUIRE(server.Start().ok());
+    client = std::make_unique<httplib::Client>("127.0.0.1", server.port());
+  }
+  static HttpConfig Config() {
+    HttpConfig config;
+    config.listen = "127.0.0.1:0";
+    config.threads = 2;
+    return config;
+  }
+  HttpServer server;
+  std::unique_ptr<httplib::Client> client;
+};
+
+nlohmann::json ProblemOf(const httplib::Result& result) {
+  REQUIRE(result);
+  CHECK(result->get_header_value("Content-Type") == "application/problem+json");
+  nlohmann::json problem = nlohmann::json::parse(result->body);
+  CHECK(problem["status"] == result->status);  // RFC 9457 section 3.1.2: must match
+  CHECK(problem["type"] == "about:blank");
+  return problem;
+}
+
+TEST_SUITE("api") {
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer routes with path parameters") {
+    auto result = client->Get("/v1/things/lamp");
+    REQUIRE(result);
+    CHECK(result->status == 200);
+    CHECK(nlohmann::json::parse(result->body)["thing"] == "lamp");
+    auto posted = client->Post("/v1/things/lamp", R"({"on":true})", "application/json");
+    REQUIRE(posted);
+    CHECK(posted->status == 201);
+    CHECK(posted->body == R"({"on":true})");
+  }
+
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer answers unknown paths with a 404 problem") {
+    nlohmann::json problem = ProblemOf(client->Get("/v1/nothing"));
+    CHECK(problem["status"] == 404);
+    CHECK(problem["title"] == "Not Found");
+    CHECK(problem["detail"] == "no resource at /v1/nothing");
+  }
+
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer answers a wrong method with 405 and Allow") {
+    auto result = client->Delete("/v1/things/lamp");
+    nlohmann::json problem = ProblemOf(result);
+    CHECK(problem["status"] == 405);
+    CHECK(result->get_header_value("Allow") == "GET, POST");
+  }
+
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer maps a handler's Status to a problem") {
+    nlohmann::json problem = ProblemOf(client->Get("/v1/bad"));
+    CHECK(problem["status"] == 400);
+    CHECK(problem["detail"] == "query parameter \"from\": expected an RFC 3339 time");
+  }
+
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer hides exception text") {
+    auto result = client->Get("/v1/throws");
+    nlohmann::json problem = ProblemOf(result);
+    CHECK(problem["status"] == 500);
+    CHECK(result->body.find("secret") == std::string::npos);
+    CHECK(client->Get("/v1/things/still")->status == 200);  // and keeps serving
+  }
+
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer refuses chunked and encoded bodies before reading") {
+    std::string chunked = RawExchange(
+        server.port(),
+        "POST /v1/things/lamp HTTP/1.1\r\nHost: x\r\nTransfer-Encoding: chunked\r\n"
+        "Content-Type: application/json\r\n\r\n4\r\n{\"a\"\r\n0\r\n\r\n");
+    CHECK(chunked.rfind("HTTP/1.1 411", 0) == 0);
+    CHECK(chunked.find("application/problem+json") != std::string::npos);
+
+    std::string encoded = RawExchange(
+        server.port(),
+        "POST /v1/things/lamp HTTP/1.1\r\nHost: x\r\nContent-Encoding: gzip\r\n"
+        "Content-Length: 2\r\nConnection: close\r\n\r\nxx");
+    CHECK(encoded.rfind("HTTP/1.1 415", 0) == 0);
+
+    std::string no_length = RawExchange(
+        server.port(), "POST /v1/things/lamp HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n");
+    CHECK(no_length.rfind("HTTP/1.1 411", 0) == 0);
+  }
+
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer refuses a body over the limit by its length") {
+    std::string big = RawExchange(
+        server.port(), "POST /v1/things/lamp HTTP/1.1\r\nHost: x\r\nContent-Length: " +
+                           std::to_string(kMaxRequestBodyBytes + 1) + "\r\n\r\n");
+    CHECK(big.rfind("HTTP/1.1 413", 0) == 0);
+    CHECK(client->Get("/v1/things/after")->status == 200);
+  }
+}
+
+}  // namespace
+}  // namespace ampledger
