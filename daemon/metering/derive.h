@@ -9,10 +9,10 @@
 //     must be >= 0. A sample needs current, real power or apparent power.
 //  2. Sign: a circuit has one direction (consumption or export) in the config, so the sign of
 //     the power a node reports says only which way round its CT is clamped. Real power,
-//     apparent power, power factor and the energy registers are taken as magnitudes: a
-//     consumption CT clamped backwards (some nodes sign S and PF like P) reads the same as one clamped the right way, and an
-//     export (solar) circuit stores positive power and energy; CircuitConfig::direction says
-//     it was exported. Consequence: a circuit whose flow really reverses (a battery) must be
+//     apparent power, power factor and the energy registers are taken as magnitudes (some
+//     nodes sign S and PF like P): a consumption CT clamped backwards reads the same as one
+//     clamped the right way, and an export (solar) circuit stores positive power and energy;
+//     CircuitConfig::direction says it was exported. Consequence: a circuit whose flow really reverses (a battery) must be
 //     split into an import and an export circuit measured by separate channels.
 //  3. Gain: ChannelConfig::gain multiplies current, real and apparent power and both
 //     registers (it corrects the CT and burden; it does not touch voltage).
