@@ -12,8 +12,9 @@
 //     apparent power, power factor and the energy registers are taken as magnitudes (some
 //     nodes sign S and PF like P): a consumption CT clamped backwards reads the same as one
 //     clamped the right way, and an export (solar) circuit stores positive power and energy;
-//     CircuitConfig::direction says it was exported. Consequence: a circuit whose flow really reverses (a battery) must be
-//     split into an import and an export circuit measured by separate channels.
+//     CircuitConfig::direction says it was exported. Consequence: a circuit whose flow
+//     really reverses (a battery) must be split into an import and an export circuit
+//     measured by separate channels.
 //  3. Gain: ChannelConfig::gain multiplies current, real and apparent power and both
 //     registers (it corrects the CT and burden; it does not touch voltage).
 //  4. Voltage: the sample's own volts, else VoltageReference::measured_volts (the circuit's
