@@ -1,0 +1,31 @@
+// api/api_routes.h
+// The JSON API's routes under /v1, registered on an HttpServer. Handlers run on the server's
+// worker threads; each opens its own read-only database connection per request (WAL lets it
+// read while the writer writes), and reads the writer's health and the ingest counters, which
+// are thread-safe.
+#pragma once
+
+#include <string>
+
+#include "api/http_server.h"
+#include "config/config.h"
+#include "daemon/ingest/ingest_stats.h"
+#include "daemon/ingest/udp_receiver.h"
+#include "storage/reading_writer.h"
+#include "storage/series.h"
+
+namespace ampledger {
+
+// What the routes read. Every pointer must outlive the server.
+struct ApiContext {
+  const Config* config;
+  const SeriesMap* series;
+  std::string database_path;
+  const ReadingWriter* writer;
+  const IngestStats* ingest;
+  const UdpReceiver* receiver;  // for the kernel's drop count
+};
+
+void AddApiRoutes(HttpServer& server, const ApiContext& context);
+
+}  // namespace ampledger
