@@ -1,0 +1,287 @@
+// daemon/ingest/senml.cpp
+// SenML CBOR reading (RFC 8428 section 6) and the resolution rules of section 4.6 shared with
+// the JSON reader (senml_json.cpp).
+#include <algorithm>
+#include <cmath>
+
+#include "daemon/ingest/cbor_reader.h"
+#include "daemon/ingest/senml.h"
+#include "daemon/ingest/senml_fields.h"
+
+namespace ampledger {
+namespace {
+
+struct LabelInfo {
+  SenmlLabel label;
+  const char* json;
+  int cbor;
+  SenmlField::Kind kind;
+};
+
+// RFC 8428 Table 1 (JSON) and Table 4 (CBOR).
+constexpr LabelInfo kLabels[] = {
+    {SenmlLabel::kBaseVersion, "bver", -1, SenmlField::Kind::kNumber},
+    {SenmlLabel::kBaseName, "bn", -2, SenmlField::Kind::kText},
+    {SenmlLabel::kBaseTime, "bt", -3, SenmlField::Kind::kNumber},
+    {SenmlLabel::kBaseUnit, "bu", -4, SenmlField::Kind::kText},
+    {SenmlLabel::kBaseValue, "bv", -5, SenmlField::Kind::kNumber},
+    {SenmlLabel::kBaseSum, "bs", -6, SenmlField::Kind::kNumber},
+    {SenmlLabel::kName, "n", 0, SenmlField::Kind::kText},
+    {SenmlLabel::kUnit, "u", 1, SenmlField::Kind::kText},
+    {SenmlLabel::kValue, "v", 2, SenmlField::Kind::kNumber},
+    {SenmlLabel::kStringValue, "vs", 3, SenmlField::Kind::kText},
+    {SenmlLabel::kBoolValue, "vb", 4, SenmlField::Kind::kBool},
+    {SenmlLabel::kDataValue, "vd", 8, SenmlField::Kind::kBytes},
+    {SenmlLabel::kSum, "s", 5, SenmlField::Kind::kNumber},
+    {SenmlLabel::kTime, "t", 6, SenmlField::Kind::kNumber},
+    {SenmlLabel::kUpdateTime, "ut", 7, SenmlField::Kind::kNumber},
+};
+
+const LabelInfo& Info(SenmlLabel label) { return kLabels[static_cast<int>(label)]; }
+
+Refusal Malformed(std::string detail) {
+  return Refuse(RefusalReason::kMalformed, "SenML: " + std::move(detail));
+}
+
+bool IsUnderstoodVersion(double version) {
+  return (version >= 1 && version <= kSenmlBaseVersion) || version == kSenmlSecondaryUnitsVersion;
+}
+
+// A CBOR number: integer, float, or decimal fraction (tag 4, RFC 8949 section 3.4.4), which
+// RFC 8428 section 6 allows for numbers.
+std::optional<Refusal> CborNumber(const CborItem& item, SenmlField* field) {
+  field->kind = SenmlField::Kind::kNumber;
+  if (item.IsInteger()) {
+    field->integer = true;
+    field->number = item.AsDouble();
+    return std::nullopt;
+  }
+  if (item.type == CborItem::Type::kFloat) {
+    field->number = item.number;
+    return std::nullopt;
+  }
+  if (item.type == CborItem::Type::kTag && item.value == 4) {
+    const CborItem& pair = item.items[0];
+    if (pair.type != CborItem::Type::kArray || pair.items.size() != 2 ||
+        !pair.items[0].IsInteger() || !pair.items[1].IsInteger()) {
+      return Malformed("decimal fraction is not [exponent, mantissa]");
+    }
+    const double exponent = pair.items[0].AsDouble();
+    if (std::fabs(exponent) > 400) return Malformed("decimal fraction exponent out of range");
+    field->number = pair.items[1].AsDouble() * std::pow(10.0, exponent);
+    return std::nullopt;
+  }
+  if (item.type == CborItem::Type::kTag) {
+    return Refuse(RefusalReason::kUnsupported,
+                  "SenML: CBOR tag " + std::to_string(item.value) + " on a number");
+  }
+  return Malformed("expected a number");
+}
+
+std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlField* field) {
+  const SenmlField::Kind kind = SenmlLabelKind(label);
+  if (kind == SenmlField::Kind::kNumber) {
+    if (auto refusal = CborNumber(item, field)) return refusal;
+    // RFC 8428 section 6: "For the version number, only an unsigned integer is allowed."
+    if (label == SenmlLabel::kBaseVersion && item.type != CborItem::Type::kUnsigned) {
+      return Malformed("bver must be an unsigned integer");
+    }
+    return std::nullopt;
+  }
+  field->kind = kind;
+  const bool ok = (kind == SenmlField::Kind::kText && item.type == CborItem::Type::kText) ||
+                  (kind == SenmlField::Kind::kBytes && item.type == CborItem::Type::kBytes) ||
+                  (kind == SenmlField::Kind::kBool && item.IsBool());
+  if (!ok) return Malformed(std::string("wrong type for ") + SenmlLabelName(label));
+  field->text = item.bytes;
+  field->boolean = item.value == 21;
+  return std::nullopt;
+}
+
+DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
+  if (map.type != CborItem::Type::kMap) return Malformed("a record is not a map");
+  RawSenmlRecord record;
+  std::vector<std::string> text_keys;
+  for (std::size_t i = 0; i + 1 < map.items.size(); i += 2) {
+    const CborItem& key = map.items[i];
+    const CborItem& value = map.items[i + 1];
+    if (key.type == CborItem::Type::kText) {
+      // RFC 8428 section 6: labels beyond Table 4 are text; unknown ones are ignored unless
+      // they end in "_" (section 4.4, must understand).
+      if (std::find(text_keys.begin(), text_keys.end(), key.bytes) != text_keys.end()) {
+        return Malformed("duplicate label \"" + key.bytes + "\"");
+      }
+      text_keys.push_back(key.bytes);
+      if (!key.bytes.empty() && key.bytes.back() == '_') {
+        return Refuse(RefusalReason::kUnsupported,
+                      "SenML: must-understand label \"" + key.bytes + "\"");
+      }
+      continue;
+    }
+    const std::optional<std::int64_t> number = key.AsInt64();
+    if (!number) return Malformed("a label is neither an integer nor text");
+    const std::optional<SenmlLabel> label = SenmlLabelFromCbor(*number);
+    if (!label) continue;  // no further integer labels will be defined; ignore
+    if (record[*label]) return Malformed(std::string("duplicate label ") + SenmlLabelName(*label));
+    SenmlField field;
+    if (auto refusal = CborField(*label, value, &field)) return *refusal;
+    record[*label] = std::move(field);
+  }
+  return record;
+}
+
+bool HasAnyRegularField(const RawSenmlRecord& r) {
+  for (int i = static_cast<int>(SenmlLabel::kName); i < kSenmlLabelCount; ++i) {
+    if (r.fields[i]) return true;
+  }
+  return false;
+}
+
+// The carried-forward base fields.
+struct BaseState {
+  std::string name;
+  double time = 0;
+  std::string unit;
+  std::optional<double> value;
+  std::optional<double> sum;
+};
+
+std::optional<Refusal> CheckFinite(const RawSenmlRecord& r) {
+  for (const LabelInfo& info : kLabels) {
+    const auto& field = r[info.label];
+    if (field && field->kind == SenmlField::Kind::kNumber && !std::isfinite(field->number)) {
+      return Malformed(std::string(info.json) + " is not a finite number");
+    }
+  }
+  return std::nullopt;
+}
+
+}  // namespace
+
+std::optional<SenmlLabel> SenmlLabelFromJson(std::string_view name) {
+  for (const LabelInfo& info : kLabels) {
+    if (name == info.json) return info.label;
+  }
+  return std::nullopt;
+}
+
+std::optional<SenmlLabel> SenmlLabelFromCbor(std::int64_t key) {
+  for (const LabelInfo& info : kLabels) {
+    if (key == info.cbor) return info.label;
+  }
+  return std::nullopt;
+}
+
+SenmlField::Kind SenmlLabelKind(SenmlLabel label) { return Info(label).kind; }
+const char* SenmlLabelName(SenmlLabel label) { return Info(label).json; }
+
+bool IsValidSenmlName(std::string_view name) {
+  auto alnum = [](char c) {
+    return (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || (c >= '0' && c <= '9');
+  };
+  if (name.empty() || !alnum(name[0])) return false;
+  for (const char c : name) {
+    if (!alnum(c) && c != '-' && c != ':' && c != '.' && c != '/' && c != '_') return false;
+  }
+  return true;
+}
+
+DecodeResult<SenmlPack> ResolveSenml(const std::vector<RawSenmlRecord>& records,
+                                     double now_seconds) {
+  using L = SenmlLabel;
+  SenmlPack pack;
+  std::optional<int> version;
+  BaseState base;
+  for (std::size_t index = 0; index < records.size(); ++index) {
+    const RawSenmlRecord& r = records[index];
+    const std::string where = "record " + std::to_string(index + 1) + ": ";
+    if (auto refusal = CheckFinite(r)) return Refuse(refusal->reason, where + refusal->detail);
+    if (r[L::kBaseVersion]) {
+      const SenmlField& v = *r[L::kBaseVersion];
+      if (!v.integer || v.number < 0) return Malformed(where + "bver must be an unsigned integer");
+      if (!IsUnderstoodVersion(v.number)) {
+        return Refuse(RefusalReason::kUnsupported,
+                      "SenML: " + where + "version " + std::to_string(v.number) +
+                          " is newer than this reader understands (10, 26)");
+      }
+      // RFC 8428 section 4.4: all records of a pack have the same version.
+      if (version && *version != static_cast<int>(v.number)) {
+        return Malformed(where + "bver differs from an earlier record");
+      }
+      version = static_cast<int>(v.number);
+    }
+    if (r[L::kBaseName]) base.name = r[L::kBaseName]->text;
+    if (r[L::kBaseTime]) base.time = r[L::kBaseTime]->number;
+    if (r[L::kBaseUnit]) base.unit = r[L::kBaseUnit]->text;
+    if (r[L::kBaseValue]) base.value = r[L::kBaseValue]->number;
+    if (r[L::kBaseSum]) base.sum = r[L::kBaseSum]->number;
+    // A record of base fields only (RFC 8428 section 5.1.7, first example) sets bases and
+    // measures nothing.
+    if (!HasAnyRegularField(r)) continue;
+
+    SenmlRecord out;
+    out.name = base.name + (r[L::kName] ? r[L::kName]->text : "");
+    if (!IsValidSenmlName(out.name)) {
+      return Malformed(where + "name \"" + out.name + "\" breaks RFC 8428 section 4.5.1");
+    }
+    out.unit = r[L::kUnit] ? r[L::kUnit]->text : base.unit;
+    int value_fields = 0;
+    if (r[L::kValue]) {
+      out.value = base.value.value_or(0) + r[L::kValue]->number;
+      ++value_fields;
+    }
+    if (r[L::kStringValue]) { out.string_value = r[L::kStringValue]->text; ++value_fields; }
+    if (r[L::kBoolValue]) { out.bool_value = r[L::kBoolValue]->boolean; ++value_fields; }
+    if (r[L::kDataValue]) { out.data_value = r[L::kDataValue]->text; ++value_fields; }
+    // Section 4.5.4: a missing Value with a Base Value present counts the Value as zero.
+    if (value_fields == 0 && base.value) {
+      out.value = *base.value;
+      ++value_fields;
+    }
+    if (r[L::kSum] || base.sum) {
+      out.sum = base.sum.value_or(0) + (r[L::kSum] ? r[L::kSum]->number : 0);
+    }
+    if (value_fields > 1) return Malformed(where + "more than one value field");
+    if (value_fields == 0 && !out.sum) return Malformed(where + "no value and no sum");
+    out.time = base.time + (r[L::kTime] ? r[L::kTime]->number : 0);
+    if (out.time < kSenmlRelativeTimeLimit) out.time += now_seconds;
+    if (r[L::kUpdateTime]) {
+      if (r[L::kUpdateTime]->number < 0) return Malformed(where + "negative ut");
+      out.update_time = r[L::kUpdateTime]->number;
+    }
+    if (!std::isfinite(out.time) || (out.value && !std::isfinite(*out.value)) ||
+        (out.sum && !std::isfinite(*out.sum))) {
+      return Malformed(where + "a resolved number is not finite");
+    }
+    pack.records.push_back(std::move(out));
+  }
+  if (version) pack.version = *version;
+  std::stable_sort(pack.records.begin(), pack.records.end(),
+                   [](const SenmlRecord& a, const SenmlRecord& b) { return a.time < b.time; });
+  return pack;
+}
+
+DecodeResult<SenmlPack> DecodeSenmlCbor(std::string_view bytes, double now_seconds) {
+  Result<CborItem> decoded = DecodeCbor(bytes);
+  if (!decoded.ok()) return Malformed(decoded.status().message());
+  const CborItem* top = &decoded.value();
+  // The self-described CBOR tag (RFC 8949 section 3.4.6) only marks the bytes as CBOR.
+  if (top->type == CborItem::Type::kTag && top->value == 55799) top = &top->items[0];
+  if (top->type == CborItem::Type::kTag) {
+    return Refuse(RefusalReason::kUnsupported,
+                  "SenML: CBOR tag " + std::to_string(top->value) + " around the pack");
+  }
+  if (top->type != CborItem::Type::kArray) return Malformed("the pack is not an array");
+  std::vector<RawSenmlRecord> raw;
+  for (std::size_t i = 0; i < top->items.size(); ++i) {
+    DecodeResult<RawSenmlRecord> record = CborRecord(top->items[i]);
+    if (!record.ok()) {
+      return Refuse(record.reason(),
+                    "record " + std::to_string(i + 1) + ": " + record.refusal().detail);
+    }
+    raw.push_back(std::move(record).value());
+  }
+  return ResolveSenml(raw, now_seconds);
+}
+
+}  // namespace ampledger
