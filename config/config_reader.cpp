@@ -1,0 +1,476 @@
+// config/config_reader.cpp
+// One function per section of the file; each reads its keys in a fixed order through a
+// TableReader, so the first error found is the one reported.
+#include "config/config_reader.h"
+
+#include <date/tz.h>
+
+#include <cerrno>
+#include <cstring>
+#include <filesystem>
+#include <fstream>
+
+#include "config/hex.h"
+#include "config/table_reader.h"
+
+namespace ampledger {
+
+namespace {
+
+using Keys = std::vector<std::string_view>;
+
+std::string Quote(std::string_view text) { return "\"" + std::string(text) + "\""; }
+
+std::string Indexed(const std::string& path, size_t index) {
+  return path + "[" + std::to_string(index) + "]";
+}
+
+std::string ResolvePath(const std::string& base_dir, const std::string& path) {
+  std::filesystem::path p(path);
+  if (p.is_relative()) p = std::filesystem::path(base_dir) / p;
+  return p.lexically_normal().string();
+}
+
+// Splits "node/channel"; false if the text is not of that shape.
+bool ParseChannelRef(const std::string& text, ChannelRef* ref) {
+  size_t slash = text.find('/');
+  if (slash == std::string::npos || text.find('/', slash + 1) != std::string::npos) return false;
+  ref->node = text.substr(0, slash);
+  ref->channel = text.substr(slash + 1);
+  return IsValidId(ref->node) && IsValidId(ref->channel);
+}
+
+// Reads a "node/channel" string at `key` of `r`. Returns false if absent or wrong.
+bool ReadChannelRef(TableReader& r, std::string_view key, ChannelRef* ref) {
+  std::string text;
+  if (!r.String(key, &text)) return false;
+  if (!ParseChannelRef(text, ref)) {
+    r.Fail(key, "expected \"node/channel\" (two ids), got " + Quote(text));
+    return false;
+  }
+  return true;
+}
+
+// "HH:MM", 00:00 to 23:59.
+bool IsClockTime(const std::string& text) {
+  if (text.size() != 5 || text[2] != ':') return false;
+  for (int i : {0, 1, 3, 4}) {
+    if (text[i] < '0' || text[i] > '9') return false;
+  }
+  int hours = (text[0] - '0') * 10 + (text[1] - '0');
+  int minutes = (text[3] - '0') * 10 + (text[4] - '0');
+  return hours < 24 && minutes < 60;
+}
+
+class ConfigReader {
+ public:
+  ConfigReader(const std::string& base_dir, KeyLines* lines)
+      : base_dir_(base_dir), context_(lines) {}
+
+  Status Read(const toml::table& root, Config* config) {
+    TableReader r(&context_, root, "");
+    r.AllowOnly({"site", "node", "circuit", "unit", "shared", "remainder", "alert", "storage",
+                 "ingest", "http", "log"});
+    ReadSite(r, &config->site);
+    ReadNodes(r, &config->nodes);
+    ReadCircuits(r, config->site, &config->circuits);
+    ReadUnits(r, &config->units);
+    ReadShared(r, &config->shared);
+    if (const toml::table* table = r.Table("remainder", "[remainder]")) {
+      TableReader remainder(&context_, *table, "remainder");
+      remainder.AllowOnly({"rule", "units", "weights"});
+      config->remainder.emplace();
+      ReadShare(remainder, &*config->remainder);
+    }
+    ReadAlerts(r, &config->alerts);
+    if (const toml::table* table = r.Table("storage", "[storage]")) {
+      ReadStorage(TableReader(&context_, *table, "storage"), &config->storage);
+    }
+    config->storage.path = ResolvePath(base_dir_, config->storage.path);
+    if (const toml::table* table = r.Table("ingest", "[ingest]")) {
+      ReadIngest(TableReader(&context_, *table, "ingest"), &config->ingest);
+    }
+    if (const toml::table* table = r.Table("http", "[http]")) {
+      ReadHttp(TableReader(&context_, *table, "http"), &config->http);
+    }
+    if (const toml::table* table = r.Table("log", "[log]")) {
+      TableReader log(&context_, *table, "log");
+      log.AllowOnly({"level"});
+      std::string_view level;
+      if (log.Choice<std::string_view>("level", {{"trace", "trace"}, {"debug", "debug"},
+                                                 {"info", "info"}, {"warn", "warn"},
+                                                 {"error", "error"}, {"off", "off"}},
+                                       &level)) {
+        config->log.level = std::string(level);
+      }
+    }
+    return context_.error();
+  }
+
+ private:
+  void ReadSite(TableReader& root, SiteConfig* site) {
+    const toml::table* table = root.Table("site", "[site]", Need::kRequired);
+    if (table == nullptr) return;
+    TableReader r(&context_, *table, "site");
+    r.AllowOnly({"name", "time_zone", "nominal_volts", "currency", "tariff",
+                 "billing_cycle_day", "max_gap_seconds"});
+    r.String("name", &site->name, Need::kRequired);
+    if (r.String("time_zone", &site->time_zone, Need::kRequired)) {
+      CheckTimeZone(r, site->time_zone);
+    }
+    if (r.Numbers("nominal_volts", &site->nominal_volts, {50, 500}, Need::kRequired) &&
+        (site->nominal_volts.empty() || site->nominal_volts.size() > 4)) {
+      r.Fail("nominal_volts", "expected 1 to 4 voltages, got " +
+                                  std::to_string(site->nominal_volts.size()));
+    }
+    if (r.String("currency", &site->currency)) {
+      const std::string& c = site->currency;
+      bool ok = c.size() == 3;
+      for (char ch : c) ok = ok && ch >= 'A' && ch <= 'Z';
+      if (!ok) r.Fail("currency", "expected an ISO 4217 code of three capital letters, got " + Quote(c));
+    }
+    if (r.String("tariff", &site->tariff) && !IsValidId(site->tariff)) {
+      r.Fail("tariff", "expected a tariff name of 1 to 64 letters, digits, '.', '_' or '-', got " +
+                           Quote(site->tariff));
+    }
+    r.Integer("billing_cycle_day", &site->billing_cycle_day, 1, 28);
+    r.Number("max_gap_seconds", &site->max_gap_seconds, {1, 86400});
+  }
+
+  static void CheckTimeZone(TableReader& r, const std::string& name) {
+    bool found = false;
+    try {
+      found = date::locate_zone(name) != nullptr;
+    } catch (const std::exception&) {
+      // locate_zone throws std::runtime_error for an unknown name.
+    }
+    if (!found) {
+      r.Fail("time_zone", "expected an IANA time zone name such as \"America/Chicago\", got " +
+                              Quote(name) + ", which is not in the time zone database");
+    }
+  }
+
+  void ReadNodes(TableReader& root, std::vector<NodeConfig>* nodes) {
+    std::vector<const toml::table*> tables = root.Tables("node", "[[node]]", Need::kRequired);
+    if (!root.failed() && tables.empty()) root.Fail("node", "expected at least one [[node]]");
+    for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("node", i));
+      NodeConfig& node = nodes->emplace_back();
+      r.AllowOnly({"id", "auth", "key", "key_file", "channel"});
+      r.Id("id", &node.id);
+      r.Choice<AuthMode>("auth", {{"cose", AuthMode::kCoseMac0}, {"plain", AuthMode::kPlain}},
+                         &node.auth);
+      ReadNodeKey(r, &node.key);
+      if (!r.failed() && node.auth == AuthMode::kCoseMac0 && node.key.empty()) {
+        r.Fail("key", "missing; a node with auth = \"cose\" needs key or key_file");
+      }
+      std::vector<const toml::table*> channels =
+          r.Tables("channel", "[[node.channel]]", Need::kRequired);
+      if (!r.failed() && channels.empty()) r.Fail("channel", "expected at least one [[node.channel]]");
+      for (size_t c = 0; c < channels.size() && !r.failed(); ++c) {
+        TableReader cr(&context_, *channels[c], Indexed(r.KeyPath("channel"), c));
+        ChannelConfig& channel = node.channels.emplace_back();
+        cr.AllowOnly({"id", "gain", "noise_floor_amps", "rated_amps"});
+        cr.Id("id", &channel.id);
+        cr.Number("gain", &channel.gain, {0.5, 2});
+        cr.Number("noise_floor_amps", &channel.noise_floor_amps, {0, 100});
+        cr.Number("rated_amps", &channel.rated_amps, {0, 10000});
+      }
+    }
+  }
+
+  // The key's text never reaches a message: errors describe only its shape.
+  void ReadNodeKey(TableReader& r, std::vector<std::uint8_t>* key) {
+    if (r.Has("key") && r.Has("key_file")) {
+      r.Fail("key_file", "give key or key_file, not both");
+      return;
+    }
+    std::string why;
+    std::string hex;
+    if (r.String("key", &hex) && !DecodeHexKey(hex, false, key, &why)) r.Fail("key", why);
+    std::string file;
+    if (!r.String("key_file", &file)) return;
+    std::string path = ResolvePath(base_dir_, file);
+    std::ifstream in(path, std::ios::binary);
+    char buffer[4096];
+    in.read(buffer, sizeof buffer);
+    if (in.bad() || (!in && !in.eof())) {
+      r.Fail("key_file", "cannot read " + Quote(path) + ": " + std::strerror(errno));
+      return;
+    }
+    if (!DecodeHexKey(std::string_view(buffer, in.gcount()), true, key, &why)) {
+      r.Fail("key_file", Quote(path) + ": " + why);
+    }
+  }
+
+  void ReadCircuits(TableReader& root, const SiteConfig& site,
+                    std::vector<CircuitConfig>* circuits) {
+    std::vector<const toml::table*> tables =
+        root.Tables("circuit", "[[circuit]]", Need::kRequired);
+    if (!root.failed() && tables.empty()) root.Fail("circuit", "expected at least one [[circuit]]");
+    for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("circuit", i));
+      CircuitConfig& circuit = circuits->emplace_back();
+      r.AllowOnly({"id", "name", "channels", "nominal_volts", "voltage_from",
+                   "one_leg_of_split_phase", "direction", "assumed_power_factor",
+                   "breaker_amps"});
+      r.Id("id", &circuit.id);
+      circuit.name = circuit.id;
+      r.String("name", &circuit.name);
+      ReadCircuitChannels(r, &circuit.channels);
+      if (!site.nominal_volts.empty()) circuit.nominal_volts = site.nominal_volts.front();
+      r.Number("nominal_volts", &circuit.nominal_volts, {50, 500});
+      ChannelRef voltage_from;
+      if (ReadChannelRef(r, "voltage_from", &voltage_from)) circuit.voltage_from = voltage_from;
+      if (r.Bool("one_leg_of_split_phase", &circuit.one_leg_of_split_phase) &&
+          circuit.one_leg_of_split_phase && circuit.channels.size() != 1) {
+        r.Fail("one_leg_of_split_phase", "applies only to a circuit with exactly one channel, got " +
+                                             std::to_string(circuit.channels.size()));
+      }
+      r.Choice<Direction>("direction", {{"consumption", Direction::kConsumption},
+                                        {"export", Direction::kExport}},
+                          &circuit.direction);
+      r.Number("assumed_power_factor", &circuit.assumed_power_factor, {0.1, 1});
+      r.Number("breaker_amps", &circuit.breaker_amps, {0, 10000});
+    }
+  }
+
+  void ReadCircuitChannels(TableReader& r, std::vector<ChannelRef>* refs) {
+    std::vector<std::string> texts;
+    if (!r.Strings("channels", &texts, Need::kRequired)) return;
+    if (texts.empty()) r.Fail("channels", "expected at least one \"node/channel\"");
+    for (size_t i = 0; i < texts.size(); ++i) {
+      ChannelRef& ref = refs->emplace_back();
+      if (!ParseChannelRef(texts[i], &ref)) {
+        context_.FailPath(Indexed(r.KeyPath("channels"), i),
+                          "expected \"node/channel\" (two ids), got " + Quote(texts[i]));
+        return;
+      }
+    }
+  }
+
+  void ReadUnits(TableReader& root, std::vector<UnitConfig>* units) {
+    std::vector<const toml::table*> tables = root.Tables("unit", "[[unit]]");
+    for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("unit", i));
+      UnitConfig& unit = units->emplace_back();
+      r.AllowOnly({"id", "name", "circuits"});
+      r.Id("id", &unit.id);
+      unit.name = unit.id;
+      r.String("name", &unit.name);
+      r.Strings("circuits", &unit.circuits);
+    }
+  }
+
+  void ReadShared(TableReader& root, std::vector<SharedCircuitConfig>* shared) {
+    std::vector<const toml::table*> tables = root.Tables("shared", "[[shared]]");
+    for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("shared", i));
+      SharedCircuitConfig& entry = shared->emplace_back();
+      r.AllowOnly({"circuit", "rule", "units", "weights"});
+      r.String("circuit", &entry.circuit, Need::kRequired);
+      ReadShare(r, &entry.split);
+    }
+  }
+
+  void ReadShare(TableReader& r, ShareConfig* split) {
+    r.Choice<ShareRule>("rule", {{"equal", ShareRule::kEqual},
+                                 {"fixed", ShareRule::kFixed},
+                                 {"proportional", ShareRule::kProportional}},
+                        &split->rule);
+    r.Strings("units", &split->units);
+    r.Numbers("weights", &split->weights, {0, 1e9, true});
+    if (r.failed()) return;
+    if (split->rule != ShareRule::kFixed) {
+      if (r.Has("weights")) r.Fail("weights", "applies only to rule = \"fixed\"");
+    } else if (split->units.empty()) {
+      r.Fail("units", "rule = \"fixed\" needs the units listed, one weight each");
+    } else if (!r.Has("weights")) {
+      r.Fail("weights", "missing; rule = \"fixed\" needs one weight per unit");
+    } else if (split->weights.size() != split->units.size()) {
+      r.Fail("weights", "expected " + std::to_string(split->units.size()) +
+                            " weights, one per unit, got " +
+                            std::to_string(split->weights.size()));
+    }
+  }
+
+  void ReadAlerts(TableReader& root, std::vector<AlertRuleConfig>* alerts) {
+    std::vector<const toml::table*> tables = root.Tables("alert", "[[alert]]");
+    for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("alert", i));
+      ReadAlert(r, &alerts->emplace_back());
+    }
+  }
+
+  // The keys each alert kind takes besides id and kind.
+  static Keys AlertKeys(AlertKind kind) {
+    switch (kind) {
+      case AlertKind::kPowerAbove:
+      case AlertKind::kPowerBelow:
+        return {"circuits", "units", "level_watts", "clear_watts", "hold_seconds"};
+      case AlertKind::kBudget:
+        return {"circuits", "units", "budget_kwh", "budget_cost", "budget_period"};
+      case AlertKind::kCycleDone:
+        return {"circuits", "level_watts", "clear_watts", "quiet_seconds", "min_run_seconds"};
+      case AlertKind::kLeftOn:
+        return {"circuits", "level_watts", "hold_seconds", "window_start", "window_end"};
+      case AlertKind::kNodeSilent:
+        return {"nodes", "missed_intervals"};
+      case AlertKind::kStandbyCreep:
+        return {"circuits", "units", "level_watts", "nights"};
+    }
+    return {};
+  }
+
+  void ReadAlert(TableReader& r, AlertRuleConfig* alert) {
+    r.AllowOnly({"id", "kind", "circuits", "units", "nodes", "level_watts", "clear_watts",
+                 "hold_seconds", "quiet_seconds", "min_run_seconds", "missed_intervals",
+                 "nights", "window_start", "window_end", "budget_kwh", "budget_cost",
+                 "budget_period"});
+    r.Id("id", &alert->id);
+    if (!r.Choice<AlertKind>("kind", {{"power_above", AlertKind::kPowerAbove},
+                                      {"power_below", AlertKind::kPowerBelow},
+                                      {"budget", AlertKind::kBudget},
+                                      {"cycle_done", AlertKind::kCycleDone},
+                                      {"left_on", AlertKind::kLeftOn},
+                                      {"node_silent", AlertKind::kNodeSilent},
+                                      {"standby_creep", AlertKind::kStandbyCreep}},
+                             &alert->kind, Need::kRequired)) {
+      return;
+    }
+    const AlertKind kind = alert->kind;
+    const std::string kind_text = "kind = " + Quote(AlertKindName(kind));
+    Keys allowed = AlertKeys(kind);
+    allowed.insert(allowed.begin(), {"id", "kind"});
+    r.AllowOnly(allowed, "does not apply to " + kind_text);
+
+    r.Strings("circuits", &alert->circuits);
+    r.Strings("units", &alert->units);
+    r.Strings("nodes", &alert->nodes);
+    if (kind == AlertKind::kCycleDone || kind == AlertKind::kLeftOn) {
+      if (alert->circuits.empty()) r.Fail("circuits", "missing; expected the circuits to watch");
+    } else if (kind != AlertKind::kNodeSilent && alert->circuits.empty() &&
+               alert->units.empty()) {
+      r.Fail("circuits", "missing; expected circuits or units to watch");
+    }
+
+    if (kind != AlertKind::kBudget && kind != AlertKind::kNodeSilent) {
+      r.Number("level_watts", &alert->level_watts, {0, 1e6, true}, Need::kRequired);
+      alert->clear_watts = alert->level_watts;
+      bool below = kind == AlertKind::kPowerBelow;
+      NumberRange clear_range = below ? NumberRange{alert->level_watts, 1e6}
+                                      : NumberRange{0, alert->level_watts};
+      r.Number("clear_watts", &alert->clear_watts, clear_range);
+    }
+    r.Number("hold_seconds", &alert->hold_seconds, {0, 604800});
+    r.Number("quiet_seconds", &alert->quiet_seconds, {0, 86400});
+    r.Number("min_run_seconds", &alert->min_run_seconds, {0, 86400});
+    r.Integer("missed_intervals", &alert->missed_intervals, 1, 1000);
+    r.Integer("nights", &alert->nights, 1, 60);
+    ReadAlertWindow(r, alert);
+    if (kind == AlertKind::kLeftOn && alert->hold_seconds <= 0 && alert->window_start.empty()) {
+      r.Fail("hold_seconds", "missing; kind = \"left_on\" needs hold_seconds > 0 or "
+                             "window_start and window_end");
+    }
+    if (kind == AlertKind::kBudget) ReadBudget(r, alert);
+  }
+
+  void ReadAlertWindow(TableReader& r, AlertRuleConfig* alert) {
+    for (auto [key, out] : {std::pair{"window_start", &alert->window_start},
+                            std::pair{"window_end", &alert->window_end}}) {
+      if (r.String(key, out) && !IsClockTime(*out)) {
+        r.Fail(key, "expected a local time \"HH:MM\" from \"00:00\" to \"23:59\", got " +
+                        Quote(*out));
+      }
+    }
+    if (r.Has("window_start") != r.Has("window_end")) {
+      r.Fail(r.Has("window_start") ? "window_end" : "window_start",
+             "missing; give both window_start and window_end, or neither");
+    }
+  }
+
+  void ReadBudget(TableReader& r, AlertRuleConfig* alert) {
+    r.Number("budget_kwh", &alert->budget_kwh, {0, 1e9, true});
+    r.Number("budget_cost", &alert->budget_cost, {0, 1e9, true});
+    if (r.Has("budget_kwh") == r.Has("budget_cost")) {
+      r.Fail("budget_kwh", r.Has("budget_kwh") ? "give budget_kwh or budget_cost, not both"
+                                               : "missing; expected budget_kwh or budget_cost");
+    }
+    std::string_view period;
+    if (r.Choice<std::string_view>("budget_period",
+                                   {{"day", "day"}, {"week", "week"}, {"cycle", "cycle"}},
+                                   &period)) {
+      alert->budget_period = std::string(period);
+    }
+  }
+
+  void ReadStorage(TableReader r, StorageConfig* storage) {
+    r.AllowOnly({"path", "raw_retention_days", "synchronous", "wal_limit_bytes", "batch_rows",
+                 "batch_millis"});
+    if (r.String("path", &storage->path) && storage->path.empty()) {
+      r.Fail("path", "expected a file path, got \"\"");
+    }
+    r.Integer("raw_retention_days", &storage->raw_retention_days, 1, 36500);
+    r.Choice<SyncMode>("synchronous", {{"off", SyncMode::kOff}, {"normal", SyncMode::kNormal},
+                                       {"full", SyncMode::kFull}, {"extra", SyncMode::kExtra}},
+                       &storage->synchronous);
+    r.Integer("wal_limit_bytes", &storage->wal_limit_bytes, 0, std::int64_t{1} << 40);
+    r.Integer("batch_rows", &storage->batch_rows, 1, 100000);
+    r.Integer("batch_millis", &storage->batch_millis, 1, 10000);
+  }
+
+  static void ReadListen(TableReader& r, std::string* listen) {
+    if (!r.String("listen", listen)) return;
+    Result<ListenAddress> address = ParseListenAddress(*listen);
+    if (!address.ok()) r.Fail("listen", address.status().message());
+  }
+
+  static void ReadIngest(TableReader r, IngestConfig* ingest) {
+    r.AllowOnly({"listen", "receive_buffer_bytes", "max_datagram_bytes", "max_future_seconds",
+                 "resend_horizon_seconds"});
+    ReadListen(r, &ingest->listen);
+    r.Integer("receive_buffer_bytes", &ingest->receive_buffer_bytes, 4096, 1 << 28);
+    r.Integer("max_datagram_bytes", &ingest->max_datagram_bytes, 64, 65507);
+    r.Number("max_future_seconds", &ingest->max_future_seconds, {0, 86400});
+    r.Number("resend_horizon_seconds", &ingest->resend_horizon_seconds, {60, 366 * 86400});
+  }
+
+  void ReadHttp(TableReader r, HttpConfig* http) {
+    r.AllowOnly({"listen", "threads", "tls_certificate", "tls_private_key"});
+    ReadListen(r, &http->listen);
+    r.Integer("threads", &http->threads, 1, 256);
+    for (auto [key, out] : {std::pair{"tls_certificate", &http->tls_certificate},
+                            std::pair{"tls_private_key", &http->tls_private_key}}) {
+      if (r.String(key, out)) {
+        if (out->empty()) r.Fail(key, "expected a file path, got \"\"");
+        *out = ResolvePath(base_dir_, *out);
+      }
+    }
+    if (r.Has("tls_certificate") != r.Has("tls_private_key")) {
+      r.Fail(r.Has("tls_certificate") ? "tls_private_key" : "tls_certificate",
+             "missing; give both tls_certificate and tls_private_key, or neither");
+    }
+  }
+
+  std::string base_dir_;
+  ReadContext context_;
+};
+
+}  // namespace
+
+Status ReadConfigText(const std::string& text, const std::string& base_dir, Config* config,
+                      KeyLines* lines) {
+  toml::table root;
+  try {
+    root = toml::parse(text, lines->source());
+  } catch (const toml::parse_error& error) {
+    const toml::source_position& where = error.source().begin;
+    return Status::InvalidArgument(KeyLines::Format(
+        lines->source(), static_cast<int>(where.line), "",
+        "TOML syntax: " + std::string(error.description()) + " (column " +
+            std::to_string(where.column) + ")"));
+  }
+  return ConfigReader(base_dir, lines).Read(root, config);
+}
+
+}  // namespace ampledger

@@ -1,0 +1,282 @@
+// tests/config/config_reader_test.cpp
+// Errors found while reading each table: the whole message is compared, so the format
+// "<file>:<line>: <key path>: <what>" is pinned down here.
+#include "config/config_reader.h"
+
+#include <doctest/doctest.h>
+
+#include "tests/config/config_text.h"
+
+namespace ampledger {
+namespace {
+
+using testing::ErrorOf;
+using testing::kMinimalConfig;
+using testing::kTestKeyHex;
+
+TEST_SUITE("config") {
+
+TEST_CASE("the minimal config loads") {
+  CHECK(ErrorOf(kMinimalConfig) == "OK");
+}
+
+TEST_CASE("TOML syntax errors give the line and column") {
+  CHECK(ErrorOf("[site]\nname = \"Test house\n") ==
+        "site.toml:2: TOML syntax: Error while parsing string: unescaped control characters "
+        "other than TAB (U+0009) are explicitly prohibited (column 19)");
+  CHECK(ErrorOf(kMinimalConfig + "id = \"again\"\n") ==
+        "site.toml:17: TOML syntax: Error while parsing key-value pair: cannot redefine "
+        "existing string 'id' (column 6)");
+}
+
+TEST_CASE("unknown keys are errors, with the keys that were expected") {
+  CHECK(ErrorOf(kMinimalConfig + "[sites]\n") ==
+        "site.toml:17: sites: unknown key; expected one of site, node, circuit, unit, shared, "
+        "remainder, alert, storage, ingest, http, log");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntimezone = \"Europe/Paris\"\n") ==
+        "site.toml:3: site.timezone: unknown key; expected one of name, time_zone, "
+        "nominal_volts, currency, tariff, billing_cycle_day, max_gap_seconds");
+  CHECK(ErrorOf(kMinimalConfig + "calibration = 2\n") ==
+        "site.toml:17: circuit[0].calibration: unknown key; expected one of id, name, channels, "
+        "nominal_volts, voltage_from, one_leg_of_split_phase, direction, "
+        "assumed_power_factor, breaker_amps");
+}
+
+TEST_CASE("missing keys are reported at the line of the table that lacks them") {
+  CHECK(ErrorOf("") == "site.toml: site: missing; expected a table ([site])");
+  CHECK(ErrorOf("[site]\nname = \"x\"\nnominal_volts = [230]\n") ==
+        "site.toml:1: site.time_zone: missing; expected a string");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\n") ==
+        "site.toml:1: site.nominal_volts: missing; expected an array of numbers, each a number "
+        "from 50 to 500");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [230]\n") ==
+        "site.toml: node: missing; expected an array of tables ([[node]])");
+  CHECK(ErrorOf(kMinimalConfig + "[[circuit]]\nname = \"No id\"\n") ==
+        "site.toml:17: circuit[1].id: missing; expected a string");
+  CHECK(ErrorOf(kMinimalConfig + "[[circuit]]\nid = \"c2\"\n") ==
+        "site.toml:17: circuit[1].channels: missing; expected an array of strings");
+}
+
+TEST_CASE("wrong types name what was expected and what was found") {
+  CHECK(ErrorOf(kMinimalConfig + "[site]\n") ==
+        "site.toml:17: TOML syntax: Error while parsing table header: cannot redefine existing "
+        "table 'site' (column 1)");
+  CHECK(ErrorOf("[[site]]\nname = \"x\"\n") ==
+        "site.toml:1: site: expected a table ([site]), got an array");
+  CHECK(ErrorOf("[site]\nname = 7\n") == "site.toml:2: site.name: expected a string, got an integer");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [\"230\"]\n") ==
+        "site.toml:4: site.nominal_volts[0]: expected a number from 50 to 500, got a string");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [230]\n"
+                "billing_cycle_day = 5.0\n") ==
+        "site.toml:5: site.billing_cycle_day: expected an integer from 1 to 28, got a "
+        "floating-point number");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [230]\n"
+                "[node]\nid = \"n1\"\n") ==
+        "site.toml:5: node: expected an array of tables ([[node]]), got a table");
+  CHECK(ErrorOf(kMinimalConfig + "one_leg_of_split_phase = \"yes\"\n") ==
+        "site.toml:17: circuit[0].one_leg_of_split_phase: expected true or false, got a string");
+}
+
+TEST_CASE("values out of range are refused, not clamped") {
+  const std::string site = "[site]\nname = \"x\"\ntime_zone = \"UTC\"\n";
+  CHECK(ErrorOf(site + "nominal_volts = [230]\nbilling_cycle_day = 31\n") ==
+        "site.toml:5: site.billing_cycle_day: expected an integer from 1 to 28, got 31");
+  CHECK(ErrorOf(site + "nominal_volts = [12]\n") ==
+        "site.toml:4: site.nominal_volts[0]: expected a number from 50 to 500, got 12");
+  CHECK(ErrorOf(site + "nominal_volts = []\n") ==
+        "site.toml:4: site.nominal_volts: expected 1 to 4 voltages, got 0");
+  CHECK(ErrorOf(site + "nominal_volts = [230]\nmax_gap_seconds = nan\n") ==
+        "site.toml:5: site.max_gap_seconds: expected a number from 1 to 86400, got nan");
+  CHECK(ErrorOf(kMinimalConfig + "assumed_power_factor = 1.2\n") ==
+        "site.toml:17: circuit[0].assumed_power_factor: expected a number from 0.1 to 1, got 1.2");
+  CHECK(ErrorOf(kMinimalConfig + "[[node]]\nid = \"n2\"\nauth = \"plain\"\n"
+                                 "[[node.channel]]\nid = \"ct1\"\ngain = 3\n") ==
+        "site.toml:22: node[1].channel[0].gain: expected a number from 0.5 to 2, got 3");
+}
+
+TEST_CASE("site values: time zone from the IANA database, currency code, tariff name") {
+  // Source of the zone names: the IANA tz database installed on the machine.
+  const std::string head = "[site]\nname = \"x\"\nnominal_volts = [230]\n";
+  CHECK(ErrorOf(head + "time_zone = \"America/Chicgo\"\n") ==
+        "site.toml:4: site.time_zone: expected an IANA time zone name such as "
+        "\"America/Chicago\", got \"America/Chicgo\", which is not in the time zone database");
+  CHECK(ErrorOf(head + "time_zone = \"UTC\"\ncurrency = \"usd\"\n") ==
+        "site.toml:5: site.currency: expected an ISO 4217 code of three capital letters, got "
+        "\"usd\"");
+  CHECK(ErrorOf(head + "time_zone = \"UTC\"\ntariff = \"my tariff\"\n") ==
+        "site.toml:5: site.tariff: expected a tariff name of 1 to 64 letters, digits, '.', '_' "
+        "or '-', got \"my tariff\"");
+}
+
+TEST_CASE("ids are short plain names") {
+  CHECK(ErrorOf(kMinimalConfig + "[[unit]]\nid = \"flat 1\"\n") ==
+        "site.toml:18: unit[0].id: expected an id of 1 to 64 letters, digits, '.', '_' or '-', "
+        "got \"flat 1\"");
+  CHECK(ErrorOf(kMinimalConfig + "[[unit]]\nid = \"\"\n") ==
+        "site.toml:18: unit[0].id: expected an id of 1 to 64 letters, digits, '.', '_' or '-', "
+        "got \"\"");
+}
+
+TEST_CASE("node keys: 64 hex digits, never echoed") {
+  const std::string node = "[[node]]\nid = \"n2\"\n";
+  const std::string channel = "[[node.channel]]\nid = \"ct1\"\n";
+  std::string short_key = kTestKeyHex.substr(0, 62);
+  CHECK(ErrorOf(kMinimalConfig + node + "key = \"" + short_key + "\"\n" + channel) ==
+        "site.toml:19: node[1].key: expected 64 hex digits (a 32-byte key), got 62");
+  std::string bad_key = kTestKeyHex;
+  bad_key[9] = 'g';
+  CHECK(ErrorOf(kMinimalConfig + node + "key = \"" + bad_key + "\"\n" + channel) ==
+        "site.toml:19: node[1].key: expected 64 hex digits (a 32-byte key), but character 10 "
+        "is not a hex digit");
+  CHECK(ErrorOf(kMinimalConfig + node + channel) ==
+        "site.toml:17: node[1].key: missing; a node with auth = \"cose\" needs key or key_file");
+  CHECK(ErrorOf(kMinimalConfig + node + "key = \"" + kTestKeyHex + "\"\nkey_file = \"n2.key\"\n" +
+                channel) == "site.toml:20: node[1].key_file: give key or key_file, not both");
+  CHECK(ErrorOf(kMinimalConfig + node + "auth = \"hmac\"\n" + channel) ==
+        "site.toml:19: node[1].auth: expected one of \"cose\", \"plain\"; got \"hmac\"");
+  // A plain node needs no key, and may have one (e.g. while its firmware is being updated).
+  CHECK(ErrorOf(kMinimalConfig + node + "auth = \"plain\"\n" + channel) == "OK");
+  CHECK(ErrorOf(kMinimalConfig + node + "auth = \"plain\"\nkey = \"" + kTestKeyHex + "\"\n" +
+                channel) == "OK");
+}
+
+TEST_CASE("a node needs channels") {
+  CHECK(ErrorOf(kMinimalConfig + "[[node]]\nid = \"n2\"\nauth = \"plain\"\n") ==
+        "site.toml:17: node[1].channel: missing; expected an array of tables ([[node.channel]])");
+  CHECK(ErrorOf(kMinimalConfig + "[[node]]\nid = \"n2\"\nauth = \"plain\"\nchannel = []\n") ==
+        "site.toml:20: node[1].channel: expected at least one [[node.channel]]");
+}
+
+TEST_CASE("circuit channels are node/channel pairs") {
+  const std::string circuit = "[[circuit]]\nid = \"c2\"\n";
+  CHECK(ErrorOf(kMinimalConfig + circuit + "channels = [\"n1/ct2\", \"ct3\"]\n") ==
+        "site.toml:19: circuit[1].channels[1]: expected \"node/channel\" (two ids), got \"ct3\"");
+  CHECK(ErrorOf(kMinimalConfig + circuit + "channels = []\n") ==
+        "site.toml:19: circuit[1].channels: expected at least one \"node/channel\"");
+  CHECK(ErrorOf(kMinimalConfig + circuit + "channels = [\"n1/ct2\"]\nvoltage_from = \"n1\"\n") ==
+        "site.toml:20: circuit[1].voltage_from: expected \"node/channel\" (two ids), got \"n1\"");
+  CHECK(ErrorOf(kMinimalConfig + circuit + "channels = [\"n1/ct2\"]\ndirection = \"import\"\n") ==
+        "site.toml:20: circuit[1].direction: expected one of \"consumption\", \"export\"; got "
+        "\"import\"");
+}
+
+TEST_CASE("one_leg_of_split_phase needs exactly one channel") {
+  CHECK(ErrorOf(kMinimalConfig +
+                "[[circuit]]\nid = \"c2\"\nchannels = [\"n1/ct2\"]\none_leg_of_split_phase = true\n") ==
+        "OK");
+  CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [120, 240]\n"
+                "[[node]]\nid = \"n1\"\nauth = \"plain\"\n"
+                "[[node.channel]]\nid = \"a\"\n[[node.channel]]\nid = \"b\"\n"
+                "[[circuit]]\nid = \"dryer\"\nchannels = [\"n1/a\", \"n1/b\"]\n"
+                "one_leg_of_split_phase = true\n") ==
+        "site.toml:15: circuit[0].one_leg_of_split_phase: applies only to a circuit with exactly "
+        "one channel, got 2");
+}
+
+TEST_CASE("share rules and weights") {
+  const std::string units = "[[unit]]\nid = \"a\"\n[[unit]]\nid = \"b\"\n";  // lines 17-20
+  const std::string shared = "[[shared]]\ncircuit = \"c1\"\n";              // lines 21-22
+  CHECK(ErrorOf(kMinimalConfig + units + shared +
+                "rule = \"fixed\"\nunits = [\"a\", \"b\"]\nweights = [60, 30, 10]\n") ==
+        "site.toml:25: shared[0].weights: expected 2 weights, one per unit, got 3");
+  CHECK(ErrorOf(kMinimalConfig + units + shared + "rule = \"fixed\"\nweights = [60, 40]\n") ==
+        "site.toml:21: shared[0].units: rule = \"fixed\" needs the units listed, one weight each");
+  CHECK(ErrorOf(kMinimalConfig + units + shared + "rule = \"fixed\"\nunits = [\"a\", \"b\"]\n") ==
+        "site.toml:21: shared[0].weights: missing; rule = \"fixed\" needs one weight per unit");
+  CHECK(ErrorOf(kMinimalConfig + units + shared + "weights = [1, 1]\n") ==
+        "site.toml:23: shared[0].weights: applies only to rule = \"fixed\"");
+  CHECK(ErrorOf(kMinimalConfig + units + shared +
+                "rule = \"fixed\"\nunits = [\"a\", \"b\"]\nweights = [1, 0]\n") ==
+        "site.toml:25: shared[0].weights[1]: expected a number above 0 up to 1000000000, got 0");
+  CHECK(ErrorOf(kMinimalConfig + units + shared + "rule = \"by-area\"\n") ==
+        "site.toml:23: shared[0].rule: expected one of \"equal\", \"fixed\", \"proportional\"; "
+        "got \"by-area\"");
+  CHECK(ErrorOf(kMinimalConfig + units + "[[shared]]\nrule = \"equal\"\n") ==
+        "site.toml:21: shared[0].circuit: missing; expected a string");
+  CHECK(ErrorOf(kMinimalConfig + units + "[remainder]\nrule = \"fixed\"\nunits = [\"a\"]\n"
+                                         "weights = [1]\nsplit = 1\n") ==
+        "site.toml:25: remainder.split: unknown key; expected one of rule, units, weights");
+}
+
+TEST_CASE("alert rules take the keys of their kind") {
+  const std::string alert = "[[alert]]\nid = \"r1\"\n";  // lines 17-18
+  CHECK(ErrorOf(kMinimalConfig + alert + "circuits = [\"c1\"]\n") ==
+        "site.toml:17: alert[0].kind: missing; expected a string");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"spike\"\n") ==
+        "site.toml:19: alert[0].kind: expected one of \"power_above\", \"power_below\", "
+        "\"budget\", \"cycle_done\", \"left_on\", \"node_silent\", \"standby_creep\"; got "
+        "\"spike\"");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"node_silent\"\nlevel_watts = 5\n") ==
+        "site.toml:20: alert[0].level_watts: does not apply to kind = \"node_silent\"");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"power_above\"\nlevel = 5\n") ==
+        "site.toml:20: alert[0].level: unknown key; expected one of id, kind, circuits, units, "
+        "nodes, level_watts, clear_watts, hold_seconds, quiet_seconds, min_run_seconds, "
+        "missed_intervals, nights, window_start, window_end, budget_kwh, budget_cost, "
+        "budget_period");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"power_above\"\nlevel_watts = 500\n") ==
+        "site.toml:17: alert[0].circuits: missing; expected circuits or units to watch");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"power_above\"\ncircuits = [\"c1\"]\n") ==
+        "site.toml:17: alert[0].level_watts: missing; expected a number above 0 up to 1000000");
+  CHECK(ErrorOf(kMinimalConfig + alert +
+                "kind = \"power_above\"\ncircuits = [\"c1\"]\nlevel_watts = 500\n"
+                "clear_watts = 600\n") ==
+        "site.toml:22: alert[0].clear_watts: expected a number from 0 to 500, got 600");
+  CHECK(ErrorOf(kMinimalConfig + alert +
+                "kind = \"power_below\"\ncircuits = [\"c1\"]\nlevel_watts = 500\n"
+                "clear_watts = 400\n") ==
+        "site.toml:22: alert[0].clear_watts: expected a number from 500 to 1000000, got 400");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"cycle_done\"\nunits = [\"u\"]\n") ==
+        "site.toml:20: alert[0].units: does not apply to kind = \"cycle_done\"");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"left_on\"\ncircuits = [\"c1\"]\n"
+                                         "level_watts = 50\n") ==
+        "site.toml:17: alert[0].hold_seconds: missing; kind = \"left_on\" needs hold_seconds > 0 "
+        "or window_start and window_end");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"left_on\"\ncircuits = [\"c1\"]\n"
+                                         "level_watts = 50\nwindow_start = \"23:00\"\n") ==
+        "site.toml:17: alert[0].window_end: missing; give both window_start and window_end, or "
+        "neither");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"left_on\"\ncircuits = [\"c1\"]\n"
+                                         "level_watts = 50\nwindow_start = \"23:00\"\n"
+                                         "window_end = \"24:30\"\n") ==
+        "site.toml:23: alert[0].window_end: expected a local time \"HH:MM\" from \"00:00\" to "
+        "\"23:59\", got \"24:30\"");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"budget\"\ncircuits = [\"c1\"]\n"
+                                         "budget_kwh = 10\nbudget_cost = 3\n") ==
+        "site.toml:21: alert[0].budget_kwh: give budget_kwh or budget_cost, not both");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"budget\"\nunits = [\"u\"]\n") ==
+        "site.toml:17: alert[0].budget_kwh: missing; expected budget_kwh or budget_cost");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"node_silent\"\nmissed_intervals = 0\n") ==
+        "site.toml:20: alert[0].missed_intervals: expected an integer from 1 to 1000, got 0");
+}
+
+TEST_CASE("storage, ingest, http and log sections") {
+  CHECK(ErrorOf(kMinimalConfig + "[storage]\npath = \"\"\n") ==
+        "site.toml:18: storage.path: expected a file path, got \"\"");
+  CHECK(ErrorOf(kMinimalConfig + "[storage]\nsynchronous = \"fast\"\n") ==
+        "site.toml:18: storage.synchronous: expected one of \"off\", \"normal\", \"full\", "
+        "\"extra\"; got \"fast\"");
+  CHECK(ErrorOf(kMinimalConfig + "[storage]\nbatch_rows = 0\n") ==
+        "site.toml:18: storage.batch_rows: expected an integer from 1 to 100000, got 0");
+  CHECK(ErrorOf(kMinimalConfig + "[ingest]\nlisten = \"4717\"\n") ==
+        "site.toml:18: ingest.listen: expected \"host:port\" or \"[IPv6]:port\" with a port from "
+        "0 to 65535, got \"4717\"");
+  // 65507 = 65535 - 8 (UDP header, RFC 768) - 20 (IPv4 header, RFC 791): the largest payload.
+  CHECK(ErrorOf(kMinimalConfig + "[ingest]\nmax_datagram_bytes = 65508\n") ==
+        "site.toml:18: ingest.max_datagram_bytes: expected an integer from 64 to 65507, got 65508");
+  CHECK(ErrorOf(kMinimalConfig + "[http]\nlisten = \"[::1]:99999\"\n") ==
+        "site.toml:18: http.listen: expected \"host:port\" or \"[IPv6]:port\" with a port from 0 "
+        "to 65535, got \"[::1]:99999\"");
+  CHECK(ErrorOf(kMinimalConfig + "[http]\ntls_certificate = \"cert.pem\"\n") ==
+        "site.toml:17: http.tls_private_key: missing; give both tls_certificate and "
+        "tls_private_key, or neither");
+  CHECK(ErrorOf(kMinimalConfig + "[http]\nthreads = 0\n") ==
+        "site.toml:18: http.threads: expected an integer from 1 to 256, got 0");
+  CHECK(ErrorOf(kMinimalConfig + "[log]\nlevel = \"verbose\"\n") ==
+        "site.toml:18: log.level: expected one of \"trace\", \"debug\", \"info\", \"warn\", "
+        "\"error\", \"off\"; got \"verbose\"");
+}
+
+}  // TEST_SUITE
+
+}  // namespace
+}  // namespace ampledger
