@@ -1,0 +1,198 @@
+// storage/database.cpp
+#include "storage/database.h"
+
+#include <filesystem>
+#include <vector>
+
+namespace ampledger {
+namespace {
+
+// Migration N (1-based) takes the schema from version N-1 to N. Never edit a released entry;
+// append a new one.
+const std::vector<std::string_view>& Migrations() {
+  static const std::vector<std::string_view> kMigrations = {
+      // 1: series, raw readings, rollups, node state.
+      R"sql(
+CREATE TABLE channel_series (
+  id INTEGER PRIMARY KEY,
+  node TEXT NOT NULL,
+  channel TEXT NOT NULL,
+  UNIQUE (node, channel)
+);
+CREATE TABLE circuit_series (
+  id INTEGER PRIMARY KEY,
+  circuit TEXT NOT NULL UNIQUE
+);
+-- Keyed (time, series): readings arrive in time order, so every commit appends to the right
+-- edge of one b-tree instead of touching one leaf page per channel (flash wear).
+CREATE TABLE reading (
+  t_end INTEGER NOT NULL,           -- interval end, ms since 1970 UTC
+  channel INTEGER NOT NULL,         -- channel_series.id
+  boot INTEGER NOT NULL,
+  duration_ms INTEGER NOT NULL,
+  amps REAL NOT NULL,
+  volts REAL NOT NULL,
+  volts_measured INTEGER NOT NULL,  -- 0 or 1
+  real_w REAL NOT NULL,
+  apparent_va REAL NOT NULL,
+  quality INTEGER NOT NULL,         -- Quality
+  frequency_hz REAL,
+  real_register_j REAL,
+  apparent_register_j REAL,
+  PRIMARY KEY (t_end, channel)
+) WITHOUT ROWID;
+CREATE TABLE rollup (
+  circuit INTEGER NOT NULL REFERENCES circuit_series (id),
+  bucket INTEGER NOT NULL,          -- bucket start, ms since 1970 UTC, multiple of 900000
+  real_wh REAL NOT NULL,
+  apparent_vah REAL NOT NULL,
+  min_w REAL NOT NULL,
+  max_w REAL NOT NULL,
+  coverage REAL NOT NULL,           -- 0..1
+  quality INTEGER NOT NULL,
+  PRIMARY KEY (circuit, bucket)
+) WITHOUT ROWID;
+CREATE TABLE rollup_pending (
+  bucket INTEGER PRIMARY KEY
+);
+CREATE TABLE node_state (
+  node TEXT PRIMARY KEY,
+  blob BLOB NOT NULL
+) WITHOUT ROWID;
+)sql",
+  };
+  return kMigrations;
+}
+
+const char* SynchronousName(SyncMode mode) {
+  switch (mode) {
+    case SyncMode::kOff: return "OFF";
+    case SyncMode::kNormal: return "NORMAL";
+    case SyncMode::kFull: return "FULL";
+    case SyncMode::kExtra: return "EXTRA";
+  }
+  return "FULL";
+}
+
+constexpr int kBusyTimeoutMs = 5000;
+
+Result<sqlite3*> OpenHandle(const std::string& path, int flags) {
+  sqlite3* db = nullptr;
+  int rc = sqlite3_open_v2(path.c_str(), &db, flags | SQLITE_OPEN_NOMUTEX, nullptr);
+  if (rc != SQLITE_OK) {
+    Status status = SqliteStatus(db, rc, path, "open");
+    sqlite3_close(db);
+    return status;
+  }
+  sqlite3_extended_result_codes(db, 1);
+  sqlite3_busy_timeout(db, kBusyTimeoutMs);
+  return db;
+}
+
+}  // namespace
+
+Database::~Database() { sqlite3_close(db_); }
+
+Result<std::unique_ptr<Database>> Database::Open(const StorageConfig& options) {
+  Result<sqlite3*> handle =
+      OpenHandle(options.path, SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE);
+  if (!handle.ok()) return handle.status();
+  std::unique_ptr<Database> db(new Database(handle.value(), options.path));
+  Result<int> version = db->SchemaVersion();
+  if (!version.ok()) return version.status();
+  if (Status s = db->CheckVersion(version.value()); !s.ok()) return s;
+  if (Status s = db->Configure(options); !s.ok()) return s;
+  if (Status s = db->Migrate(); !s.ok()) return s;
+  return db;
+}
+
+Result<std::unique_ptr<Database>> Database::OpenReader(const std::string& path) {
+  std::error_code error;
+  if (!std::filesystem::exists(path, error)) {
+    return Status::NotFound(path + ": no such database");
+  }
+  Result<sqlite3*> handle = OpenHandle(path, SQLITE_OPEN_READWRITE);
+  if (!handle.ok()) return handle.status();
+  std::unique_ptr<Database> db(new Database(handle.value(), path));
+  Result<int> version = db->SchemaVersion();
+  if (!version.ok()) return version.status();
+  if (version.value() == 0) return Status::NotFound(path + ": database has no ampledger schema");
+  if (Status s = db->CheckVersion(version.value()); !s.ok()) return s;
+  if (Status s = db->Exec("PRAGMA query_only = ON", "set query_only"); !s.ok()) return s;
+  return db;
+}
+
+Result<Statement> Database::Prepare(std::string_view sql) const {
+  return Statement::Prepare(db_, path_, sql);
+}
+
+Status Database::Exec(std::string_view sql, std::string_view what) const {
+  return ExecSql(db_, path_, sql, what);
+}
+
+Result<int> Database::SchemaVersion() const {
+  Result<Statement> statement = Prepare("PRAGMA user_version");
+  if (!statement.ok()) return statement.status();
+  Result<bool> row = statement->Step("read schema version");
+  if (!row.ok()) return row.status();
+  return row.value() ? static_cast<int>(statement->Int(0)) : 0;
+}
+
+Status Database::CheckVersion(int version) const {
+  if (version > kSchemaVersion) {
+    return Status::InvalidArgument(path_ + ": schema version " + std::to_string(version) +
+                                   " is newer than this ampledger supports (" +
+                                   std::to_string(kSchemaVersion) + "); upgrade ampledger");
+  }
+  return Status();
+}
+
+Status Database::Configure(const StorageConfig& options) {
+  // journal_mode answers with the mode in force; WAL can be refused (e.g. some network file
+  // systems), and without it readers would block the writer.
+  Result<Statement> mode = Prepare("PRAGMA journal_mode = WAL");
+  if (!mode.ok()) return mode.status();
+  Result<bool> row = mode->Step("set journal_mode");
+  if (!row.ok()) return row.status();
+  if (!row.value() || mode->Text(0) != "wal") {
+    return Status::IOError(path_ + ": cannot use WAL journal mode (journal_mode is " +
+                           (row.value() ? mode->Text(0) : std::string("unknown")) + ")");
+  }
+  mode->Reset();
+  // The WAL is checkpointed every `checkpoint_pages` pages and truncated back to
+  // wal_limit_bytes afterwards, so it stays bounded; half the limit between checkpoints keeps
+  // one page from being copied to the main file more often than needed.
+  std::int64_t checkpoint_pages = std::max<std::int64_t>(100, options.wal_limit_bytes / 4096 / 2);
+  std::string pragmas = std::string("PRAGMA synchronous = ") +
+                        SynchronousName(options.synchronous) +
+                        ";\nPRAGMA secure_delete = FAST;\nPRAGMA foreign_keys = ON;\n"
+                        "PRAGMA journal_size_limit = " + std::to_string(options.wal_limit_bytes) +
+                        ";\nPRAGMA wal_autocheckpoint = " + std::to_string(checkpoint_pages) + ";";
+  return Exec(pragmas, "set pragmas");
+}
+
+Status Database::Migrate() {
+  Result<int> version = SchemaVersion();
+  if (!version.ok()) return version.status();
+  const auto& migrations = Migrations();
+  static_assert(kSchemaVersion >= 1);
+  for (int next = version.value() + 1; next <= kSchemaVersion; ++next) {
+    std::string what = "migration to schema version " + std::to_string(next);
+    if (Status s = Exec("BEGIN IMMEDIATE", what); !s.ok()) return s;
+    // Another process may have migrated while we waited for the lock.
+    Result<int> now = SchemaVersion();
+    Status s = now.ok() ? Status() : now.status();
+    if (s.ok() && now.value() < next) {
+      s = Exec(migrations[next - 1], what);
+      if (s.ok()) s = Exec("PRAGMA user_version = " + std::to_string(next), what);
+    }
+    if (s.ok()) s = Exec("COMMIT", what);
+    if (!s.ok()) {
+      (void)Exec("ROLLBACK", "roll back " + what);
+      return s;
+    }
+  }
+  return Status();
+}
+
+}  // namespace ampledger
