@@ -43,7 +43,7 @@ std::string DescribeSplit(const ShareConfig& split) {
   return text + ": " + Join(parts);
 }
 
-std::string DescribeAlert(const AlertRuleConfig& alert) {
+std::string DescribeAlert(const AlertRuleConfig& alert, const std::string& currency) {
   std::vector<std::string> subjects;
   for (const std::string& c : alert.circuits) subjects.push_back("circuit " + c);
   for (const std::string& u : alert.units) subjects.push_back("unit " + u);
@@ -60,7 +60,7 @@ std::string DescribeAlert(const AlertRuleConfig& alert) {
       break;
     case AlertKind::kBudget:
       text += alert.budget_kwh > 0 ? ", " + Number(alert.budget_kwh) + " kWh"
-                                   : ", " + Number(alert.budget_cost) + " (currency)";
+                                   : ", " + Number(alert.budget_cost) + " " + currency;
       text += " per " + alert.budget_period;
       break;
     case AlertKind::kNodeSilent:
@@ -114,7 +114,7 @@ std::string DescribeConfig(const Config& config) {
       << (config.remainder ? DescribeSplit(*config.remainder) : "not split among units") << "\n";
 
   out << "alert rules (" << config.alerts.size() << "):\n";
-  for (const AlertRuleConfig& alert : config.alerts) out << "  " << DescribeAlert(alert) << "\n";
+  for (const AlertRuleConfig& alert : config.alerts) out << "  " << DescribeAlert(alert, site.currency) << "\n";
 
   out << "storage: " << config.storage.path << " (synchronous "
       << SyncModeName(config.storage.synchronous) << ", raw readings kept "

@@ -386,6 +386,9 @@ class ConfigReader {
     if (r.Has("window_start") != r.Has("window_end")) {
       r.Fail(r.Has("window_start") ? "window_end" : "window_start",
              "missing; give both window_start and window_end, or neither");
+    } else if (!alert->window_start.empty() && alert->window_start == alert->window_end) {
+      r.Fail("window_end", "expected a time other than window_start, got " +
+                               Quote(alert->window_end));
     }
   }
 

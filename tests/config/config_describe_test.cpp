@@ -45,6 +45,20 @@ TEST_CASE("the summary of the minimal config, whole") {
   CHECK(DescribeConfig(*config).find(kTestKeyHex) == std::string::npos);
 }
 
+TEST_CASE("alert rules in the summary") {
+  const std::string text = kMinimalConfig +
+                           "[[alert]]\nid = \"spend\"\nkind = \"budget\"\ncircuits = [\"c1\"]\n"
+                           "budget_cost = 2.5\nbudget_period = \"week\"\n"
+                           "[[alert]]\nid = \"idle\"\nkind = \"power_below\"\ncircuits = [\"c1\"]\n"
+                           "level_watts = 20\n";
+  Result<Config> config = ParseConfig(text, "site.toml");
+  REQUIRE(config.ok());
+  const std::string summary = DescribeConfig(*config);
+  CHECK(summary.find("alert rules (2):\n"
+                     "  spend: budget on circuit c1, 2.5 USD per week\n"
+                     "  idle: power_below on circuit c1, level 20 W\n") != std::string::npos);
+}
+
 TEST_CASE("the example's summary names its circuits, units, splits and rules") {
   const std::filesystem::path folder = SourceDir() / "config" / "examples";
   Result<Config> config = LoadConfig((folder / "duplex.toml").string());

@@ -27,6 +27,9 @@ TEST_CASE("TOML syntax errors give the line and column") {
   CHECK(ErrorOf(kMinimalConfig + "id = \"again\"\n") ==
         "site.toml:17: TOML syntax: Error while parsing key-value pair: cannot redefine "
         "existing string 'id' (column 6)");
+  CHECK(ErrorOf(kMinimalConfig + "[site]\n") ==
+        "site.toml:17: TOML syntax: Error while parsing table header: cannot redefine existing "
+        "table 'site' (column 1)");
 }
 
 TEST_CASE("unknown keys are errors, with the keys that were expected") {
@@ -58,9 +61,6 @@ TEST_CASE("missing keys are reported at the line of the table that lacks them") 
 }
 
 TEST_CASE("wrong types name what was expected and what was found") {
-  CHECK(ErrorOf(kMinimalConfig + "[site]\n") ==
-        "site.toml:17: TOML syntax: Error while parsing table header: cannot redefine existing "
-        "table 'site' (column 1)");
   CHECK(ErrorOf("[[site]]\nname = \"x\"\n") ==
         "site.toml:1: site: expected a table ([site]), got an array");
   CHECK(ErrorOf("[site]\nname = 7\n") == "site.toml:2: site.name: expected a string, got an integer");
@@ -109,6 +109,13 @@ TEST_CASE("site values: time zone from the IANA database, currency code, tariff 
 }
 
 TEST_CASE("ids are short plain names") {
+  CHECK(ErrorOf(kMinimalConfig + "[[unit]]\nid = \"" + std::string(64, 'u') + "\"\n") == "OK");
+  CHECK(ErrorOf(kMinimalConfig + "[[unit]]\nid = \"" + std::string(65, 'u') + "\"\n") ==
+        "site.toml:18: unit[0].id: expected an id of 1 to 64 letters, digits, '.', '_' or '-', "
+        "got \"" + std::string(65, 'u') + "\"");
+  CHECK(ErrorOf(kMinimalConfig + "[[unit]]\nid = \"a/b\"\n") ==
+        "site.toml:18: unit[0].id: expected an id of 1 to 64 letters, digits, '.', '_' or '-', "
+        "got \"a/b\"");
   CHECK(ErrorOf(kMinimalConfig + "[[unit]]\nid = \"flat 1\"\n") ==
         "site.toml:18: unit[0].id: expected an id of 1 to 64 letters, digits, '.', '_' or '-', "
         "got \"flat 1\"");
@@ -240,6 +247,15 @@ TEST_CASE("alert rules take the keys of their kind") {
                                          "window_end = \"24:30\"\n") ==
         "site.toml:23: alert[0].window_end: expected a local time \"HH:MM\" from \"00:00\" to "
         "\"23:59\", got \"24:30\"");
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"left_on\"\ncircuits = [\"c1\"]\n"
+                                         "level_watts = 50\nwindow_start = \"23:00\"\n"
+                                         "window_end = \"23:00\"\n") ==
+        "site.toml:23: alert[0].window_end: expected a time other than window_start, got "
+        "\"23:00\"");
+  // A window may cross midnight.
+  CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"left_on\"\ncircuits = [\"c1\"]\n"
+                                         "level_watts = 50\nwindow_start = \"23:00\"\n"
+                                         "window_end = \"06:00\"\n") == "OK");
   CHECK(ErrorOf(kMinimalConfig + alert + "kind = \"budget\"\ncircuits = [\"c1\"]\n"
                                          "budget_kwh = 10\nbudget_cost = 3\n") ==
         "site.toml:21: alert[0].budget_kwh: give budget_kwh or budget_cost, not both");
