@@ -1,7 +1,144 @@
-// daemon/main.cpp: the `ampledger` command line.
-#include <cstdio>
+// daemon/main.cpp: the `ampledger` command line. Each subcommand is a small function; the work
+// is done by the libraries below.
+#include <signal.h>
 
-int main() {
-  std::puts("ampledger");
+#include <CLI/CLI.hpp>
+#include <spdlog/spdlog.h>
+
+#include <atomic>
+#include <cstdio>
+#include <iostream>
+#include <thread>
+
+#include "config/config.h"
+#include "daemon/demo.h"
+#include "daemon/logging.h"
+#include "daemon/service.h"
+#include "storage/backup.h"
+
+namespace ampledger {
+namespace {
+
+constexpr const char* kDefaultConfig = "/etc/ampledger/ampledger.toml";
+
+// Runs `service` until SIGTERM or SIGINT (or until it stops by itself), then flushes and
+// joins. The signals are blocked in every thread and taken here with sigtimedwait, so no
+// handler runs in an arbitrary thread.
+int RunUntilSignalled(Service& service) {
+  sigset_t signals;
+  sigemptyset(&signals);
+  sigaddset(&signals, SIGTERM);
+  sigaddset(&signals, SIGINT);
+  pthread_sigmask(SIG_BLOCK, &signals, nullptr);  // before Start(): threads inherit the mask
+
+  if (Status started = service.Start(); !started.ok()) {
+    spdlog::error("cannot start: {}", started.ToString());
+    return 1;
+  }
+  std::atomic<bool> done{false};
+  std::thread signal_waiter([&] {
+    timespec tick{0, 200'000'000};
+    while (!done.load()) {
+      int signal_number = sigtimedwait(&signals, nullptr, &tick);
+      if (signal_number > 0) {
+        spdlog::info("received {}, stopping", strsignal(signal_number));
+        service.RequestStop();
+        return;
+      }
+    }
+  });
+  Status stopped = service.Wait();
+  done = true;
+  signal_waiter.join();
+  if (!stopped.ok()) {
+    spdlog::error("stopped: {}", stopped.ToString());
+    return 1;
+  }
+  spdlog::info("stopped cleanly");
   return 0;
+}
+
+Result<Config> LoadOrReport(const std::string& path) {
+  Result<Config> config = LoadConfig(path);
+  if (!config.ok()) std::cerr << "ampledger: " << config.status().message() << "\n";
+  return config;
+}
+
+int Serve(const std::string& config_path, const std::string& log_level) {
+  Result<Config> config = LoadOrReport(config_path);
+  if (!config.ok()) return 2;
+  const std::string& level = log_level.empty() ? config->log.level : log_level;
+  if (Status logging = ConfigureLogging(level); !logging.ok()) {
+    std::cerr << "ampledger: " << logging.message() << "\n";
+    return 2;
+  }
+  spdlog::info("ampledger {} serving {} from {}", AMPLEDGER_VERSION, config->site.name,
+               config_path);
+  Service service(std::move(config).value());
+  return RunUntilSignalled(service);
+}
+
+int Check(const std::string& config_path) {
+  Result<Config> config = LoadOrReport(config_path);
+  if (!config.ok()) return 2;
+  std::cout << config_path << ": OK\n" << DescribeConfig(*config);
+  return 0;
+}
+
+int Backup(const std::string& config_path, const std::string& to) {
+  Result<Config> config = LoadOrReport(config_path);
+  if (!config.ok()) return 2;
+  if (Status status = BackupDatabase(config->storage.path, to); !status.ok()) {
+    std::cerr << "ampledger: backup failed: " << status.ToString() << "\n";
+    return 1;
+  }
+  std::cout << "backed up " << config->storage.path << " to " << to << "\n";
+  return 0;
+}
+
+int Demo(const DemoOptions& options) {
+  if (Status logging = ConfigureLogging("info"); !logging.ok()) return 2;
+  Result<Config> config = PrepareDemo(options);
+  if (!config.ok()) {
+    std::cerr << "ampledger: demo: " << config.status().ToString() << "\n";
+    return 1;
+  }
+  Service service(std::move(config).value());
+  return RunUntilSignalled(service);
+}
+
+}  // namespace
+}  // namespace ampledger
+
+int main(int argc, char** argv) {
+  using namespace ampledger;
+  CLI::App app{"ampledger: energy records, bills and alerts from clamp-on current sensors"};
+  app.set_version_flag("--version", AMPLEDGER_VERSION);
+  app.require_subcommand(0, 1);
+
+  std::string config_path = kDefaultConfig;
+  std::string log_level;
+  auto* serve = app.add_subcommand("serve", "run the daemon");
+  serve->add_option("--config,-c", config_path, "configuration file")->capture_default_str();
+  serve->add_option("--log-level", log_level, "trace|debug|info|warn|error|off (overrides config)");
+
+  auto* check = app.add_subcommand("check", "validate a configuration file and summarise it");
+  check->add_option("--config,-c", config_path, "configuration file")->capture_default_str();
+
+  std::string backup_to;
+  auto* backup = app.add_subcommand("backup", "copy the live database with SQLite's online backup");
+  backup->add_option("--config,-c", config_path, "configuration file")->capture_default_str();
+  backup->add_option("--to", backup_to, "backup file to write")->required();
+
+  DemoOptions demo_options;
+  auto* demo = app.add_subcommand("demo", "run the daemon on the built-in example site (default)");
+  demo->add_option("--http", demo_options.http_listen, "HTTP listen address")->capture_default_str();
+  demo->add_option("--udp", demo_options.udp_listen, "UDP listen address")->capture_default_str();
+  demo->add_option("--keep", demo_options.keep_dir, "keep the demo database in this folder");
+
+  CLI11_PARSE(app, argc, argv);
+  if (*serve) return Serve(config_path, log_level);
+  if (*check) return Check(config_path);
+  if (*backup) return Backup(config_path, backup_to);
+  return Demo(demo_options);  // `ampledger demo`, and `ampledger` alone
 }

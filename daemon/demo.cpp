@@ -1,0 +1,55 @@
+#include "daemon/demo.h"
+
+#include <spdlog/spdlog.h>
+#include <stdlib.h>
+
+#include <filesystem>
+#include <fstream>
+
+#include "daemon/demo_config.h"
+
+namespace ampledger {
+
+namespace {
+
+Result<std::string> MakeDemoDir(const std::string& keep_dir) {
+  std::error_code error;
+  if (!keep_dir.empty()) {
+    std::filesystem::create_directories(keep_dir, error);
+    if (error) return Status::IOError("cannot create " + keep_dir + ": " + error.message());
+    return std::filesystem::absolute(keep_dir).string();
+  }
+  std::string pattern = (std::filesystem::temp_directory_path() / "ampledger-demo-XXXXXX").string();
+  if (::mkdtemp(pattern.data()) == nullptr) {
+    return Status::IOError("cannot create a temporary folder for the demo");
+  }
+  return pattern;
+}
+
+Status WriteText(const std::string& path, const char* text) {
+  std::ofstream out(path);
+  out << text;
+  return out ? Status::Ok() : Status::IOError("cannot write " + path);
+}
+
+}  // namespace
+
+Result<Config> PrepareDemo(const DemoOptions& options) {
+  Result<std::string> dir = MakeDemoDir(options.keep_dir);
+  if (!dir.ok()) return dir.status();
+  const std::string config_path = *dir + "/duplex.toml";
+  if (Status written = WriteText(config_path, kDemoConfigToml); !written.ok()) return written;
+  std::filesystem::create_directories(*dir + "/keys");
+  if (Status written = WriteText(*dir + "/" + kDemoKeyPath, kDemoKey); !written.ok()) {
+    return written;
+  }
+  Result<Config> config = LoadConfig(config_path);
+  if (!config.ok()) return config.status();
+  config->ingest.listen = options.udp_listen;
+  config->http.listen = options.http_listen;
+  spdlog::info("demo site \"{}\": config and database in {}", config->site.name, *dir);
+  spdlog::info("open http://{}/ in a browser; Ctrl-C stops the demo", options.http_listen);
+  return config;
+}
+
+}  // namespace ampledger

@@ -1,0 +1,22 @@
+// daemon/demo.h
+// `ampledger demo`: the real daemon on a temporary database with the built-in example site
+// (config/examples/duplex.toml, compiled in), listening on loopback only.
+#pragma once
+
+#include <string>
+
+#include "config/config.h"
+
+namespace ampledger {
+
+struct DemoOptions {
+  std::string http_listen = "127.0.0.1:8417";
+  std::string udp_listen = "127.0.0.1:4717";
+  std::string keep_dir;  // "" = a new folder under the system temp dir
+};
+
+// Writes the example config into the demo folder and loads it from there (so its relative
+// database path lands in that folder), with the listen addresses of `options`.
+Result<Config> PrepareDemo(const DemoOptions& options);
+
+}  // namespace ampledger

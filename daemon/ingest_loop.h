@@ -1,0 +1,76 @@
+// daemon/ingest_loop.h
+// The UDP receive thread's work, datagram by datagram:
+//   receive -> decode and verify (daemon/ingest) -> anti-replay check -> derive readings
+//   (daemon/metering) -> ReadingWriter::Submit -> once durable: advance the window, ack.
+// A datagram is acknowledged only after its readings are committed; a valid duplicate of a
+// committed datagram is acknowledged again without storing anything; a duplicate of one still
+// in flight is dropped (its own acknowledgement is on the way). Every refusal is counted by
+// reason and logged at a limited rate.
+//
+// Threads: Run() on the ingest thread. The writer's completions run on the writer thread and
+// touch only the replay state (under mu_), the stats (atomics) and UdpReceiver::SendTo().
+#pragma once
+
+#include <atomic>
+#include <cstdint>
+#include <map>
+#include <memory>
+#include <mutex>
+#include <string>
+#include <vector>
+
+#include "config/config.h"
+#include "daemon/ingest/datagram.h"
+#include "daemon/ingest/ingest_stats.h"
+#include "daemon/ingest/replay_window.h"
+#include "daemon/ingest/udp_receiver.h"
+#include "daemon/logging.h"
+#include "daemon/sd_notify.h"
+#include "storage/reading_writer.h"
+
+namespace ampledger {
+
+class IngestLoop {
+ public:
+  // All pointers must outlive this.
+  IngestLoop(const Config& config, UdpReceiver* receiver, ReadingWriter* writer,
+             IngestStats* stats, SdNotifier* notifier);
+  IngestLoop(const IngestLoop&) = delete;
+  IngestLoop& operator=(const IngestLoop&) = delete;
+
+  // Restores each node's anti-replay window as last committed. Unknown nodes are ignored
+  // (removed from the config); a corrupt blob is an error naming the node.
+  Status RestoreState(const std::vector<NodeState>& states);
+
+  // Receives and handles datagrams until `stopping` is set (checked every 100 ms). Pings the
+  // systemd watchdog from here, so a stuck ingest thread is noticed.
+  void Run(const std::atomic<bool>& stopping);
+
+  // Handles one datagram received at `now`; Run() calls it. Public for tests.
+  void Handle(const ReceivedDatagram& datagram, UnixMs now);
+
+ private:
+  struct NodeEntry {
+    const NodeConfig* config = nullptr;
+    std::string key;         // the HMAC key as bytes
+    ReplayWindow committed;  // GUARDED_BY(mu_): datagrams durably stored
+    ReplayWindow pending;    // GUARDED_BY(mu_): committed plus those submitted, not yet durable
+  };
+
+  // The readings of `pack`, derived for their circuits; a Refusal if a value is unusable.
+  DecodeResult<std::vector<ChannelReading>> Derive(const NodePack& pack) const;
+  void Refuse(const Refusal& refusal, const std::string& node, const PeerAddress& from);
+  void SendAck(const NodeEntry& node, const DecodedDatagram& decoded, const PeerAddress& to);
+
+  const Config& config_;
+  UdpReceiver* const receiver_;
+  ReadingWriter* const writer_;
+  IngestStats* const stats_;
+  SdNotifier* const notifier_;
+  RateLimitedLog refusal_log_{30};
+
+  std::mutex mu_;
+  std::map<std::string, NodeEntry> nodes_;  // by node id; the map itself is fixed after start
+};
+
+}  // namespace ampledger

@@ -1,0 +1,142 @@
+#include "daemon/service.h"
+
+#include <spdlog/spdlog.h>
+
+#include <condition_variable>
+#include <mutex>
+#include <thread>
+
+#include "api/api_routes.h"
+#include "api/http_server.h"
+#include "daemon/ingest/ingest_stats.h"
+#include "daemon/ingest/udp_receiver.h"
+#include "daemon/ingest_loop.h"
+#include "daemon/sd_notify.h"
+#include "storage/database.h"
+#include "storage/reading_writer.h"
+#include "storage/series.h"
+
+namespace ampledger {
+
+namespace {
+
+std::vector<std::string> NodeIds(const Config& config) {
+  std::vector<std::string> ids;
+  for (const NodeConfig& node : config.nodes) ids.push_back(node.id);
+  return ids;
+}
+
+}  // namespace
+
+class ServiceImpl {
+ public:
+  explicit ServiceImpl(Config config)
+      : config_(std::move(config)), stats_(NodeIds(config_)), http_(config_.http) {}
+
+  ~ServiceImpl() {
+    RequestStop();
+    (void)Wait();
+  }
+
+  Status Start() {
+    Status status = StartParts();
+    if (!status.ok()) {
+      StopParts();
+      return status;
+    }
+    started_ = true;
+    ingest_thread_ = std::thread([this] { ingest_->Run(stopping_); });
+    (void)notifier_.Ready();
+    spdlog::info("listening for nodes on udp {} (port {}), api on http {} (port {})",
+                 config_.ingest.listen, receiver_->port(), config_.http.listen, http_.port());
+    return Status::Ok();
+  }
+
+  void RequestStop() {
+    std::lock_guard<std::mutex> lock(mu_);
+    stopping_ = true;
+    stop_requested_.notify_all();
+  }
+
+  Status Wait() {
+    if (!started_) return Status::Ok();
+    {
+      std::unique_lock<std::mutex> lock(mu_);
+      stop_requested_.wait(lock, [this] { return stopping_.load(); });
+    }
+    (void)notifier_.Stopping();
+    StopParts();
+    started_ = false;
+    return Status::Ok();
+  }
+
+  std::uint16_t udp_port() const { return receiver_ ? receiver_->port() : 0; }
+  std::uint16_t http_port() const { return http_.port(); }
+
+ private:
+  Status StartParts() {
+    Result<std::unique_ptr<Database>> db = Database::Open(config_.storage);
+    if (!db.ok()) return db.status();
+    db_ = std::move(db).value();
+    Result<SeriesMap> series = RegisterSeries(*db_, config_);
+    if (!series.ok()) return series.status();
+    series_ = *series;
+    Result<std::vector<NodeState>> node_states = LoadNodeStates(*db_);
+    if (!node_states.ok()) return node_states.status();
+
+    Result<std::unique_ptr<ReadingWriter>> writer =
+        ReadingWriter::Start(config_, db_.get(), *series);
+    if (!writer.ok()) return writer.status();
+    writer_ = std::move(writer).value();
+
+    Result<std::unique_ptr<UdpReceiver>> receiver = UdpReceiver::Open(config_.ingest);
+    if (!receiver.ok()) return receiver.status();
+    receiver_ = std::move(receiver).value();
+    ingest_ = std::make_unique<IngestLoop>(config_, receiver_.get(), writer_.get(), &stats_,
+                                           &notifier_);
+    if (Status restored = ingest_->RestoreState(*node_states); !restored.ok()) return restored;
+
+    AddApiRoutes(http_, ApiContext{&config_, &series_, config_.storage.path, writer_.get(),
+                                   &stats_, receiver_.get()});
+    return http_.Start();
+  }
+
+  // Stops in dependency order: no new datagrams, then the writer flushes (its completions
+  // still send acknowledgements through the open socket), then the socket and the API.
+  void StopParts() {
+    stopping_ = true;
+    if (ingest_thread_.joinable()) ingest_thread_.join();
+    if (writer_) writer_->Stop();
+    http_.Stop();
+    ingest_.reset();
+    receiver_.reset();
+    writer_.reset();
+    db_.reset();
+  }
+
+  const Config config_;
+  IngestStats stats_;
+  SdNotifier notifier_;
+  HttpServer http_;
+  std::unique_ptr<Database> db_;  // the writer's connection
+  SeriesMap series_;
+  std::unique_ptr<ReadingWriter> writer_;
+  std::unique_ptr<UdpReceiver> receiver_;
+  std::unique_ptr<IngestLoop> ingest_;
+  std::thread ingest_thread_;
+  bool started_ = false;
+
+  std::mutex mu_;
+  std::condition_variable stop_requested_;
+  std::atomic<bool> stopping_{false};
+};
+
+Service::Service(Config config) : impl_(std::make_unique<ServiceImpl>(std::move(config))) {}
+Service::~Service() = default;
+Status Service::Start() { return impl_->Start(); }
+void Service::RequestStop() { impl_->RequestStop(); }
+Status Service::Wait() { return impl_->Wait(); }
+std::uint16_t Service::udp_port() const { return impl_->udp_port(); }
+std::uint16_t Service::http_port() const { return impl_->http_port(); }
+
+}  // namespace ampledger
