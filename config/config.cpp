@@ -21,14 +21,22 @@ int FindIn(const std::map<std::string, int, std::less<>>& index, std::string_vie
 
 }  // namespace
 
-const NodeConfig* Config::FindNode(const std::string& id) const { return FindById(nodes, id); }
+const NodeConfig* Config::FindNode(const std::string& id) const {
+  return FindById(nodes, id);
+}
 const CircuitConfig* Config::FindCircuit(const std::string& id) const {
   return FindById(circuits, id);
 }
-const UnitConfig* Config::FindUnit(const std::string& id) const { return FindById(units, id); }
+const UnitConfig* Config::FindUnit(const std::string& id) const {
+  return FindById(units, id);
+}
 
-int Config::FindNodeIndex(std::string_view id) const { return FindIn(node_index_, id); }
-int Config::FindCircuitIndex(std::string_view id) const { return FindIn(circuit_index_, id); }
+int Config::FindNodeIndex(std::string_view id) const {
+  return FindIn(node_index_, id);
+}
+int Config::FindCircuitIndex(std::string_view id) const {
+  return FindIn(circuit_index_, id);
+}
 
 int Config::FindChannelIndex(const ChannelRef& ref) const {
   return FindChannelIndex(ref.node, ref.channel);

@@ -17,15 +17,19 @@
 
 namespace ampledger {
 
+// Ranges beside the fields are checked by LoadConfig; a value outside them is an error, never
+// clamped. "required" keys have no default. Ids are 1..64 characters of A-Z a-z 0-9 . _ -
+
 // [site]: the building.
-// Ranges below are checked by LoadConfig; a value outside them is an error, never clamped.
-// "required" keys have no default; ids are 1..64 characters of A-Z a-z 0-9 . _ -
 struct SiteConfig {
-  std::string name;                  // required; shown on statements and the dashboard
-  std::string time_zone;             // required; IANA zone name, e.g. "America/Chicago"; must exist in tzdata
-  std::vector<double> nominal_volts; // required; e.g. {120, 240} for split phase; 1..4 values, each 50..500
-  std::string currency = "USD";      // ISO 4217 code, three capital letters
-  std::string tariff;                // name of a tariff in the tariff library; "" = none (not checked yet)
+  std::string name;       // required; shown on statements and the dashboard
+  std::string time_zone;  // required; IANA zone name, e.g. "America/Chicago"; must be in tzdata
+  // Required; e.g. {120, 240} for split phase, {230}; 1..4 values, each 50..500.
+  std::vector<double> nominal_volts;
+  std::string currency = "USD";  // ISO 4217 code, three capital letters
+  // Name (an id) of a tariff in the tariff library; "" = none. Not yet checked against the
+  // library, which comes later.
+  std::string tariff;
   int billing_cycle_day = 1;         // day of the month a billing cycle starts, 1..28
   double max_gap_seconds = 300;      // power is never integrated across a longer gap (1..86400)
 };
@@ -74,8 +78,10 @@ struct CircuitConfig {
   // Required, at least one; summed; two for a split-phase 240 V load on both legs. A channel
   // feeds at most one circuit.
   std::vector<ChannelRef> channels;
-  double nominal_volts = 0;           // voltage used when none is measured (50..500); default the site's first
-  std::optional<ChannelRef> voltage_from;  // a configured channel whose node measures voltage, if any
+  // Voltage used when none is measured (50..500); defaults to the site's first nominal_volts.
+  double nominal_volts = 0;
+  // A configured channel whose node measures the voltage, if any.
+  std::optional<ChannelRef> voltage_from;
   // A 240 V load measured with one CT on one leg of a split-phase supply: current on the
   // other leg is the same, so power is V_line-to-line x I.
   // Only with exactly one channel.
@@ -157,7 +163,8 @@ struct StorageConfig {
   // Absolute after loading: a relative path in the file is resolved against the config file's
   // folder.
   std::string path = "ampledger.db";
-  int raw_retention_days = 400;       // raw readings older than this are deleted; rollups kept (1..36500)
+  // Raw readings older than this are deleted; rollups are kept (1..36500).
+  int raw_retention_days = 400;
   SyncMode synchronous = SyncMode::kFull;  // FULL: an acknowledged reading survives power loss
   std::int64_t wal_limit_bytes = 16 << 20;  // journal_size_limit after checkpoints (0..2^40)
   int batch_rows = 2000;              // the writer commits at this many rows (1..100000) ...
@@ -166,11 +173,16 @@ struct StorageConfig {
 
 // [ingest]: the UDP listener for sensor nodes.
 struct IngestConfig {
-  std::string listen = "0.0.0.0:4717";  // "host:port" or "[v6]:port", port 0..65535 (see ParseListenAddress)
-  int receive_buffer_bytes = 1 << 20;   // SO_RCVBUF (4096..2^28)
-  int max_datagram_bytes = 1400;        // larger datagrams are refused; fits one Ethernet frame (64..65507)
-  double max_future_seconds = 60;       // readings stamped later than now + this are refused (0..86400)
-  double resend_horizon_seconds = 7 * 86400;  // readings older than now - this are refused (60..31622400)
+  // "host:port" or "[v6]:port", port 0..65535 (see ParseListenAddress).
+  std::string listen = "0.0.0.0:4717";
+  int receive_buffer_bytes = 1 << 20;  // SO_RCVBUF (4096..2^28)
+  // Larger datagrams are refused; the default fits one Ethernet frame. 64..65507, the largest
+  // UDP payload over IPv4 (65535 - 8 byte UDP header - 20 byte IPv4 header).
+  int max_datagram_bytes = 1400;
+  double max_future_seconds = 60;  // readings stamped after now + this are refused (0..86400)
+  // Readings older than now - this are refused (60..31622400, and at most
+  // storage.raw_retention_days, or retention would delete them as they arrive).
+  double resend_horizon_seconds = 7 * 86400;
 };
 
 // [http]: the JSON API and dashboard.

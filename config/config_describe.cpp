@@ -55,9 +55,7 @@ std::string DescribeAlert(const AlertRuleConfig& alert, const std::string& curre
     case AlertKind::kPowerBelow:
     case AlertKind::kStandbyCreep:
     case AlertKind::kCycleDone:
-    case AlertKind::kLeftOn:
-      text += ", level " + Number(alert.level_watts) + " W";
-      break;
+    case AlertKind::kLeftOn: text += ", level " + Number(alert.level_watts) + " W"; break;
     case AlertKind::kBudget:
       text += alert.budget_kwh > 0 ? ", " + Number(alert.budget_kwh) + " kWh"
                                    : ", " + Number(alert.budget_cost) + " " + currency;
@@ -102,8 +100,7 @@ std::string DescribeConfig(const Config& config) {
   for (const UnitConfig& unit : config.units) {
     out << "  " << unit.id;
     if (unit.name != unit.id) out << " \"" << unit.name << "\"";
-    out << ": " << (unit.circuits.empty() ? "no circuits of its own" : Join(unit.circuits))
-        << "\n";
+    out << ": " << (unit.circuits.empty() ? "no circuits of its own" : Join(unit.circuits)) << "\n";
   }
 
   out << "shared circuits (" << config.shared.size() << "):\n";
@@ -114,7 +111,8 @@ std::string DescribeConfig(const Config& config) {
       << (config.remainder ? DescribeSplit(*config.remainder) : "not split among units") << "\n";
 
   out << "alert rules (" << config.alerts.size() << "):\n";
-  for (const AlertRuleConfig& alert : config.alerts) out << "  " << DescribeAlert(alert, site.currency) << "\n";
+  for (const AlertRuleConfig& alert : config.alerts)
+    out << "  " << DescribeAlert(alert, site.currency) << "\n";
 
   out << "storage: " << config.storage.path << " (synchronous "
       << SyncModeName(config.storage.synchronous) << ", raw readings kept "

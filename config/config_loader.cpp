@@ -19,8 +19,8 @@ Result<Config> ParseConfig(const std::string& text, const std::string& source_na
   std::error_code error;
   std::filesystem::path absolute = std::filesystem::absolute(source_name, error);
   if (error) {
-    return Status::IOError("cannot resolve the folder of \"" + source_name + "\": " +
-                           error.message());
+    return Status::IOError("cannot resolve the folder of \"" + source_name +
+                           "\": " + error.message());
   }
   KeyLines lines(source_name);
   Config config;

@@ -19,7 +19,9 @@ namespace {
 
 using Keys = std::vector<std::string_view>;
 
-std::string Quote(std::string_view text) { return "\"" + std::string(text) + "\""; }
+std::string Quote(std::string_view text) {
+  return "\"" + std::string(text) + "\"";
+}
 
 std::string Indexed(const std::string& path, size_t index) {
   return path + "[" + std::to_string(index) + "]";
@@ -97,9 +99,13 @@ class ConfigReader {
       TableReader log(&context_, *table, "log");
       log.AllowOnly({"level"});
       std::string_view level;
-      if (log.Choice<std::string_view>("level", {{"trace", "trace"}, {"debug", "debug"},
-                                                 {"info", "info"}, {"warn", "warn"},
-                                                 {"error", "error"}, {"off", "off"}},
+      if (log.Choice<std::string_view>("level",
+                                       {{"trace", "trace"},
+                                        {"debug", "debug"},
+                                        {"info", "info"},
+                                        {"warn", "warn"},
+                                        {"error", "error"},
+                                        {"off", "off"}},
                                        &level)) {
         config->log.level = std::string(level);
       }
@@ -112,22 +118,24 @@ class ConfigReader {
     const toml::table* table = root.Table("site", "[site]", Need::kRequired);
     if (table == nullptr) return;
     TableReader r(&context_, *table, "site");
-    r.AllowOnly({"name", "time_zone", "nominal_volts", "currency", "tariff",
-                 "billing_cycle_day", "max_gap_seconds"});
+    r.AllowOnly({"name", "time_zone", "nominal_volts", "currency", "tariff", "billing_cycle_day",
+                 "max_gap_seconds"});
     r.String("name", &site->name, Need::kRequired);
     if (r.String("time_zone", &site->time_zone, Need::kRequired)) {
       CheckTimeZone(r, site->time_zone);
     }
     if (r.Numbers("nominal_volts", &site->nominal_volts, {50, 500}, Need::kRequired) &&
         (site->nominal_volts.empty() || site->nominal_volts.size() > 4)) {
-      r.Fail("nominal_volts", "expected 1 to 4 voltages, got " +
-                                  std::to_string(site->nominal_volts.size()));
+      r.Fail("nominal_volts",
+             "expected 1 to 4 voltages, got " + std::to_string(site->nominal_volts.size()));
     }
     if (r.String("currency", &site->currency)) {
       const std::string& c = site->currency;
       bool ok = c.size() == 3;
       for (char ch : c) ok = ok && ch >= 'A' && ch <= 'Z';
-      if (!ok) r.Fail("currency", "expected an ISO 4217 code of three capital letters, got " + Quote(c));
+      if (!ok) {
+        r.Fail("currency", "expected an ISO 4217 code of three capital letters, got " + Quote(c));
+      }
     }
     if (r.String("tariff", &site->tariff) && !IsValidId(site->tariff)) {
       r.Fail("tariff", "expected a tariff name of 1 to 64 letters, digits, '.', '_' or '-', got " +
@@ -166,7 +174,9 @@ class ConfigReader {
       }
       std::vector<const toml::table*> channels =
           r.Tables("channel", "[[node.channel]]", Need::kRequired);
-      if (!r.failed() && channels.empty()) r.Fail("channel", "expected at least one [[node.channel]]");
+      if (!r.failed() && channels.empty()) {
+        r.Fail("channel", "expected at least one [[node.channel]]");
+      }
       for (size_t c = 0; c < channels.size() && !r.failed(); ++c) {
         TableReader cr(&context_, *channels[c], Indexed(r.KeyPath("channel"), c));
         ChannelConfig& channel = node.channels.emplace_back();
@@ -205,15 +215,13 @@ class ConfigReader {
 
   void ReadCircuits(TableReader& root, const SiteConfig& site,
                     std::vector<CircuitConfig>* circuits) {
-    std::vector<const toml::table*> tables =
-        root.Tables("circuit", "[[circuit]]", Need::kRequired);
+    std::vector<const toml::table*> tables = root.Tables("circuit", "[[circuit]]", Need::kRequired);
     if (!root.failed() && tables.empty()) root.Fail("circuit", "expected at least one [[circuit]]");
     for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
       TableReader r(&context_, *tables[i], Indexed("circuit", i));
       CircuitConfig& circuit = circuits->emplace_back();
       r.AllowOnly({"id", "name", "channels", "nominal_volts", "voltage_from",
-                   "one_leg_of_split_phase", "direction", "assumed_power_factor",
-                   "breaker_amps"});
+                   "one_leg_of_split_phase", "direction", "assumed_power_factor", "breaker_amps"});
       r.Id("id", &circuit.id);
       circuit.name = circuit.id;
       r.String("name", &circuit.name);
@@ -224,12 +232,13 @@ class ConfigReader {
       if (ReadChannelRef(r, "voltage_from", &voltage_from)) circuit.voltage_from = voltage_from;
       if (r.Bool("one_leg_of_split_phase", &circuit.one_leg_of_split_phase) &&
           circuit.one_leg_of_split_phase && circuit.channels.size() != 1) {
-        r.Fail("one_leg_of_split_phase", "applies only to a circuit with exactly one channel, got " +
-                                             std::to_string(circuit.channels.size()));
+        r.Fail("one_leg_of_split_phase",
+               "applies only to a circuit with exactly one channel, got " +
+                   std::to_string(circuit.channels.size()));
       }
-      r.Choice<Direction>("direction", {{"consumption", Direction::kConsumption},
-                                        {"export", Direction::kExport}},
-                          &circuit.direction);
+      r.Choice<Direction>(
+          "direction", {{"consumption", Direction::kConsumption}, {"export", Direction::kExport}},
+          &circuit.direction);
       r.Number("assumed_power_factor", &circuit.assumed_power_factor, {0.1, 1});
       r.Number("breaker_amps", &circuit.breaker_amps, {0, 10000});
     }
@@ -274,9 +283,10 @@ class ConfigReader {
   }
 
   void ReadShare(TableReader& r, ShareConfig* split) {
-    r.Choice<ShareRule>("rule", {{"equal", ShareRule::kEqual},
-                                 {"fixed", ShareRule::kFixed},
-                                 {"proportional", ShareRule::kProportional}},
+    r.Choice<ShareRule>("rule",
+                        {{"equal", ShareRule::kEqual},
+                         {"fixed", ShareRule::kFixed},
+                         {"proportional", ShareRule::kProportional}},
                         &split->rule);
     r.Strings("units", &split->units);
     r.Numbers("weights", &split->weights, {0, 1e9, true});
@@ -289,8 +299,7 @@ class ConfigReader {
       r.Fail("weights", "missing; rule = \"fixed\" needs one weight per unit");
     } else if (split->weights.size() != split->units.size()) {
       r.Fail("weights", "expected " + std::to_string(split->units.size()) +
-                            " weights, one per unit, got " +
-                            std::to_string(split->weights.size()));
+                            " weights, one per unit, got " + std::to_string(split->weights.size()));
     }
   }
 
@@ -314,27 +323,25 @@ class ConfigReader {
         return {"circuits", "level_watts", "clear_watts", "quiet_seconds", "min_run_seconds"};
       case AlertKind::kLeftOn:
         return {"circuits", "level_watts", "hold_seconds", "window_start", "window_end"};
-      case AlertKind::kNodeSilent:
-        return {"nodes", "missed_intervals"};
-      case AlertKind::kStandbyCreep:
-        return {"circuits", "units", "level_watts", "nights"};
+      case AlertKind::kNodeSilent: return {"nodes", "missed_intervals"};
+      case AlertKind::kStandbyCreep: return {"circuits", "units", "level_watts", "nights"};
     }
     return {};
   }
 
   void ReadAlert(TableReader& r, AlertRuleConfig* alert) {
     r.AllowOnly({"id", "kind", "circuits", "units", "nodes", "level_watts", "clear_watts",
-                 "hold_seconds", "quiet_seconds", "min_run_seconds", "missed_intervals",
-                 "nights", "window_start", "window_end", "budget_kwh", "budget_cost",
-                 "budget_period"});
+                 "hold_seconds", "quiet_seconds", "min_run_seconds", "missed_intervals", "nights",
+                 "window_start", "window_end", "budget_kwh", "budget_cost", "budget_period"});
     r.Id("id", &alert->id);
-    if (!r.Choice<AlertKind>("kind", {{"power_above", AlertKind::kPowerAbove},
-                                      {"power_below", AlertKind::kPowerBelow},
-                                      {"budget", AlertKind::kBudget},
-                                      {"cycle_done", AlertKind::kCycleDone},
-                                      {"left_on", AlertKind::kLeftOn},
-                                      {"node_silent", AlertKind::kNodeSilent},
-                                      {"standby_creep", AlertKind::kStandbyCreep}},
+    if (!r.Choice<AlertKind>("kind",
+                             {{"power_above", AlertKind::kPowerAbove},
+                              {"power_below", AlertKind::kPowerBelow},
+                              {"budget", AlertKind::kBudget},
+                              {"cycle_done", AlertKind::kCycleDone},
+                              {"left_on", AlertKind::kLeftOn},
+                              {"node_silent", AlertKind::kNodeSilent},
+                              {"standby_creep", AlertKind::kStandbyCreep}},
                              &alert->kind, Need::kRequired)) {
       return;
     }
@@ -349,8 +356,7 @@ class ConfigReader {
     r.Strings("nodes", &alert->nodes);
     if (kind == AlertKind::kCycleDone || kind == AlertKind::kLeftOn) {
       if (alert->circuits.empty()) r.Fail("circuits", "missing; expected the circuits to watch");
-    } else if (kind != AlertKind::kNodeSilent && alert->circuits.empty() &&
-               alert->units.empty()) {
+    } else if (kind != AlertKind::kNodeSilent && alert->circuits.empty() && alert->units.empty()) {
       r.Fail("circuits", "missing; expected circuits or units to watch");
     }
 
@@ -358,8 +364,8 @@ class ConfigReader {
       r.Number("level_watts", &alert->level_watts, {0, 1e6, true}, Need::kRequired);
       alert->clear_watts = alert->level_watts;
       bool below = kind == AlertKind::kPowerBelow;
-      NumberRange clear_range = below ? NumberRange{alert->level_watts, 1e6}
-                                      : NumberRange{0, alert->level_watts};
+      NumberRange clear_range =
+          below ? NumberRange{alert->level_watts, 1e6} : NumberRange{0, alert->level_watts};
       r.Number("clear_watts", &alert->clear_watts, clear_range);
     }
     r.Number("hold_seconds", &alert->hold_seconds, {0, 604800});
@@ -369,8 +375,9 @@ class ConfigReader {
     r.Integer("nights", &alert->nights, 1, 60);
     ReadAlertWindow(r, alert);
     if (kind == AlertKind::kLeftOn && alert->hold_seconds <= 0 && alert->window_start.empty()) {
-      r.Fail("hold_seconds", "missing; kind = \"left_on\" needs hold_seconds > 0 or "
-                             "window_start and window_end");
+      r.Fail("hold_seconds",
+             "missing; kind = \"left_on\" needs hold_seconds > 0 or "
+             "window_start and window_end");
     }
     if (kind == AlertKind::kBudget) ReadBudget(r, alert);
   }
@@ -379,16 +386,16 @@ class ConfigReader {
     for (auto [key, out] : {std::pair{"window_start", &alert->window_start},
                             std::pair{"window_end", &alert->window_end}}) {
       if (r.String(key, out) && !IsClockTime(*out)) {
-        r.Fail(key, "expected a local time \"HH:MM\" from \"00:00\" to \"23:59\", got " +
-                        Quote(*out));
+        r.Fail(key,
+               "expected a local time \"HH:MM\" from \"00:00\" to \"23:59\", got " + Quote(*out));
       }
     }
     if (r.Has("window_start") != r.Has("window_end")) {
       r.Fail(r.Has("window_start") ? "window_end" : "window_start",
              "missing; give both window_start and window_end, or neither");
     } else if (!alert->window_start.empty() && alert->window_start == alert->window_end) {
-      r.Fail("window_end", "expected a time other than window_start, got " +
-                               Quote(alert->window_end));
+      r.Fail("window_end",
+             "expected a time other than window_start, got " + Quote(alert->window_end));
     }
   }
 
@@ -400,9 +407,8 @@ class ConfigReader {
                                                : "missing; expected budget_kwh or budget_cost");
     }
     std::string_view period;
-    if (r.Choice<std::string_view>("budget_period",
-                                   {{"day", "day"}, {"week", "week"}, {"cycle", "cycle"}},
-                                   &period)) {
+    if (r.Choice<std::string_view>(
+            "budget_period", {{"day", "day"}, {"week", "week"}, {"cycle", "cycle"}}, &period)) {
       alert->budget_period = std::string(period);
     }
   }
@@ -414,8 +420,11 @@ class ConfigReader {
       r.Fail("path", "expected a file path, got \"\"");
     }
     r.Integer("raw_retention_days", &storage->raw_retention_days, 1, 36500);
-    r.Choice<SyncMode>("synchronous", {{"off", SyncMode::kOff}, {"normal", SyncMode::kNormal},
-                                       {"full", SyncMode::kFull}, {"extra", SyncMode::kExtra}},
+    r.Choice<SyncMode>("synchronous",
+                       {{"off", SyncMode::kOff},
+                        {"normal", SyncMode::kNormal},
+                        {"full", SyncMode::kFull},
+                        {"extra", SyncMode::kExtra}},
                        &storage->synchronous);
     r.Integer("wal_limit_bytes", &storage->wal_limit_bytes, 0, std::int64_t{1} << 40);
     r.Integer("batch_rows", &storage->batch_rows, 1, 100000);
@@ -468,10 +477,10 @@ Status ReadConfigText(const std::string& text, const std::string& base_dir, Conf
     root = toml::parse(text, lines->source());
   } catch (const toml::parse_error& error) {
     const toml::source_position& where = error.source().begin;
-    return Status::InvalidArgument(KeyLines::Format(
-        lines->source(), static_cast<int>(where.line), "",
-        "TOML syntax: " + std::string(error.description()) + " (column " +
-            std::to_string(where.column) + ")"));
+    return Status::InvalidArgument(
+        KeyLines::Format(lines->source(), static_cast<int>(where.line), "",
+                         "TOML syntax: " + std::string(error.description()) + " (column " +
+                             std::to_string(where.column) + ")"));
   }
   return ConfigReader(base_dir, lines).Read(root, config);
 }

@@ -7,7 +7,9 @@ namespace ampledger {
 
 namespace {
 
-std::string Quote(const std::string& text) { return "\"" + text + "\""; }
+std::string Quote(const std::string& text) {
+  return "\"" + text + "\"";
+}
 
 std::string Indexed(const std::string& path, size_t index) {
   return path + "[" + std::to_string(index) + "]";
@@ -15,9 +17,8 @@ std::string Indexed(const std::string& path, size_t index) {
 
 // Checks that the ids of the `items` at `path` are unique; `noun` is "node", "circuit", ...
 template <typename T>
-Status CheckUniqueIds(const std::vector<T>& items, const std::string& noun,
-                      const std::string& path, const KeyLines& lines,
-                      const std::string& scope = "") {
+Status CheckUniqueIds(const std::vector<T>& items, const std::string& noun, const std::string& path,
+                      const KeyLines& lines, const std::string& scope = "") {
   std::map<std::string, size_t> first;
   for (size_t i = 0; i < items.size(); ++i) {
     auto [it, added] = first.emplace(items[i].id, i);
@@ -41,6 +42,7 @@ class Validator {
     if (s.ok()) s = CheckShared();
     if (s.ok() && config_.remainder) s = CheckSplit(*config_.remainder, "remainder");
     if (s.ok()) s = CheckAlerts();
+    if (s.ok()) s = CheckResendHorizon();
     return s;
   }
 
@@ -78,8 +80,8 @@ class Validator {
         if (!missing.empty()) return lines_.Error(where, missing);
         auto [it, added] = fed_by.emplace(circuit.channels[c].ToString(), circuit.id);
         if (!added) {
-          return lines_.Error(where, "channel " + Quote(it->first) + " already feeds circuit " +
-                                         Quote(it->second));
+          return lines_.Error(
+              where, "channel " + Quote(it->first) + " already feeds circuit " + Quote(it->second));
         }
       }
       if (circuit.voltage_from) {
@@ -96,7 +98,9 @@ class Validator {
       for (size_t c = 0; c < unit.circuits.size(); ++c) {
         const std::string where = Indexed(Indexed("unit", u) + ".circuits", c);
         const std::string& id = unit.circuits[c];
-        if (config_.FindCircuit(id) == nullptr) return lines_.Error(where, "no circuit " + Quote(id));
+        if (config_.FindCircuit(id) == nullptr) {
+          return lines_.Error(where, "no circuit " + Quote(id));
+        }
         auto [it, added] = owner_.emplace(id, unit.id);
         if (!added) {
           return lines_.Error(where, it->second == unit.id
@@ -167,6 +171,16 @@ class Validator {
       if (!s.ok()) return s;
     }
     return Status::Ok();
+  }
+
+  Status CheckResendHorizon() {
+    const double retention_seconds = config_.storage.raw_retention_days * 86400.0;
+    if (config_.ingest.resend_horizon_seconds <= retention_seconds) return Status::Ok();
+    return lines_.Error("ingest.resend_horizon_seconds",
+                        "expected at most storage.raw_retention_days (" +
+                            std::to_string(config_.storage.raw_retention_days) +
+                            " days = " + std::to_string(static_cast<long long>(retention_seconds)) +
+                            " s), or retention would delete resent readings as they arrive");
   }
 
   template <typename Find>

@@ -12,15 +12,16 @@ int HexValue(char c) {
   return -1;
 }
 
-bool IsSpace(char c) { return c == ' ' || c == '\t' || c == '\n' || c == '\r'; }
+bool IsSpace(char c) {
+  return c == ' ' || c == '\t' || c == '\n' || c == '\r';
+}
 
 }  // namespace
 
 bool DecodeHexKey(std::string_view text, bool skip_whitespace, std::vector<std::uint8_t>* key,
                   std::string* why) {
-  const std::string expected = "expected " + std::to_string(2 * kNodeKeyBytes) +
-                               " hex digits (a " + std::to_string(kNodeKeyBytes) +
-                               "-byte key)";
+  const std::string expected = "expected " + std::to_string(2 * kNodeKeyBytes) + " hex digits (a " +
+                               std::to_string(kNodeKeyBytes) + "-byte key)";
   std::vector<int> digits;
   for (size_t i = 0; i < text.size(); ++i) {
     if (skip_whitespace && IsSpace(text[i])) continue;

@@ -8,10 +8,11 @@ namespace ampledger {
 
 namespace {
 
-constexpr const char* kIdExpected =
-    "expected an id of 1 to 64 letters, digits, '.', '_' or '-'";
+constexpr const char* kIdExpected = "expected an id of 1 to 64 letters, digits, '.', '_' or '-'";
 
-int LineOf(const toml::source_region& region) { return static_cast<int>(region.begin.line); }
+int LineOf(const toml::source_region& region) {
+  return static_cast<int>(region.begin.line);
+}
 
 }  // namespace
 
@@ -33,8 +34,8 @@ std::string NumberRange::Describe() const {
 
 std::string FormatNumber(double value) {
   char buffer[64];
-  auto [end, error] = std::to_chars(buffer, buffer + sizeof buffer, value,
-                                    std::chars_format::fixed);
+  auto [end, error] =
+      std::to_chars(buffer, buffer + sizeof buffer, value, std::chars_format::fixed);
   if (error != std::errc()) return "?";
   return std::string(buffer, end);
 }
@@ -99,13 +100,11 @@ void TableReader::Fail(std::string_view key, const std::string& what) {
   context_->Fail(node ? LineOf(node->source()) : line_, KeyPath(key), what);
 }
 
-void TableReader::FailAt(const toml::node& node, const std::string& path,
-                         const std::string& what) {
+void TableReader::FailAt(const toml::node& node, const std::string& path, const std::string& what) {
   context_->Fail(LineOf(node.source()), path, what);
 }
 
-const toml::node* TableReader::Get(std::string_view key, Need need,
-                                   const std::string& expected) {
+const toml::node* TableReader::Get(std::string_view key, Need need, const std::string& expected) {
   if (failed()) return nullptr;
   const toml::node* node = table_.get(key);
   if (node == nullptr) {

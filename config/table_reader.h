@@ -6,14 +6,14 @@
 // Internal to config/ (the only place that includes toml++). Not thread-safe.
 #pragma once
 
+#include <toml++/toml.h>
+
 #include <cstdint>
 #include <initializer_list>
 #include <string>
 #include <string_view>
 #include <utility>
 #include <vector>
-
-#include <toml++/toml.h>
 
 #include "config/key_lines.h"
 #include "config/status.h"
@@ -106,7 +106,8 @@ class TableReader {
       }
     }
     std::string expected = "expected one of";
-    for (const auto& entry : names) expected += std::string(" \"") + std::string(entry.first) + "\",";
+    for (const auto& entry : names)
+      expected += std::string(" \"") + std::string(entry.first) + "\",";
     expected.back() = ';';
     Fail(key, expected + " got \"" + text + "\"");
     return false;

@@ -29,7 +29,8 @@ TEST_CASE("the summary of the minimal config, whole") {
   Result<Config> config = ParseConfig(kMinimalConfig, "/srv/ampledger/site.toml");
   REQUIRE(config.ok());
   CHECK(DescribeConfig(*config) ==
-        "site \"Test house\": Europe/Paris, 230 V, USD, billing cycle starts on day 1, tariff none\n"
+        "site \"Test house\": Europe/Paris, 230 V, USD, billing cycle starts on day 1, "
+        "tariff none\n"
         "nodes (1):\n"
         "  n1: 2 channels, auth cose, key set\n"
         "circuits (1):\n"

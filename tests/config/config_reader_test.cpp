@@ -63,7 +63,8 @@ TEST_CASE("missing keys are reported at the line of the table that lacks them") 
 TEST_CASE("wrong types name what was expected and what was found") {
   CHECK(ErrorOf("[[site]]\nname = \"x\"\n") ==
         "site.toml:1: site: expected a table ([site]), got an array");
-  CHECK(ErrorOf("[site]\nname = 7\n") == "site.toml:2: site.name: expected a string, got an integer");
+  CHECK(ErrorOf("[site]\nname = 7\n") ==
+        "site.toml:2: site.name: expected a string, got an integer");
   CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [\"230\"]\n") ==
         "site.toml:4: site.nominal_volts[0]: expected a number from 50 to 500, got a string");
   CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [230]\n"
@@ -169,7 +170,8 @@ TEST_CASE("circuit channels are node/channel pairs") {
 
 TEST_CASE("one_leg_of_split_phase needs exactly one channel") {
   CHECK(ErrorOf(kMinimalConfig +
-                "[[circuit]]\nid = \"c2\"\nchannels = [\"n1/ct2\"]\none_leg_of_split_phase = true\n") ==
+                "[[circuit]]\nid = \"c2\"\nchannels = [\"n1/ct2\"]\n"
+                "one_leg_of_split_phase = true\n") ==
         "OK");
   CHECK(ErrorOf("[site]\nname = \"x\"\ntime_zone = \"UTC\"\nnominal_volts = [120, 240]\n"
                 "[[node]]\nid = \"n1\"\nauth = \"plain\"\n"

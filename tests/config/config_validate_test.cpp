@@ -30,7 +30,8 @@ TEST_CASE("duplicate ids") {
                                  "[[node.channel]]\nid = \"ct1\"\n") ==
         "site.toml:18: node[1].id: duplicate node id \"n1\", first used by node[0]");
   CHECK(ErrorOf(kMinimalConfig + "[[node]]\nid = \"n2\"\nauth = \"plain\"\n"
-                                 "[[node.channel]]\nid = \"ct1\"\n[[node.channel]]\nid = \"ct1\"\n") ==
+                                 "[[node.channel]]\nid = \"ct1\"\n"
+                                 "[[node.channel]]\nid = \"ct1\"\n") ==
         "site.toml:23: node[1].channel[1].id: duplicate channel id \"ct1\" on node \"n2\", first "
         "used by node[1].channel[0]");
   CHECK(ErrorOf(kMinimalConfig + "[[circuit]]\nid = \"c1\"\nchannels = [\"n1/ct2\"]\n") ==
@@ -101,6 +102,15 @@ TEST_CASE("alert subjects exist") {
   CHECK(ErrorOf(kWithUnits + "[[alert]]\nid = \"r\"\nkind = \"node_silent\"\n"
                              "nodes = [\"n1\", \"attic\"]\n") ==
         "site.toml:28: alert[0].nodes[1]: no node \"attic\"");
+}
+
+TEST_CASE("resent readings must outlive retention") {
+  CHECK(ErrorOf(kMinimalConfig + "[storage]\nraw_retention_days = 2\n"
+                                 "[ingest]\nresend_horizon_seconds = 172800\n") == "OK");
+  CHECK(ErrorOf(kMinimalConfig + "[storage]\nraw_retention_days = 2\n"
+                                 "[ingest]\nresend_horizon_seconds = 172801\n") ==
+        "site.toml:20: ingest.resend_horizon_seconds: expected at most storage.raw_retention_days "
+        "(2 days = 172800 s), or retention would delete resent readings as they arrive");
 }
 
 }  // TEST_SUITE
