@@ -68,6 +68,8 @@ class [[nodiscard]] DecodeResult {
   T&& value() && { return std::get<T>(std::move(state_)); }
   T* operator->() { return &value(); }
   const T* operator->() const { return &value(); }
+  T& operator*() & { return value(); }
+  const T& operator*() const& { return value(); }
 
  private:
   std::variant<T, Refusal> state_;

@@ -1,0 +1,182 @@
+// daemon/ingest/cose_mac0.cpp
+#include "daemon/ingest/cose_mac0.h"
+
+#include <openssl/crypto.h>
+#include <openssl/evp.h>
+#include <openssl/hmac.h>
+
+#include <optional>
+
+#include "daemon/ingest/cbor_reader.h"
+#include "daemon/ingest/cbor_writer.h"
+
+namespace ampledger {
+namespace {
+
+constexpr std::int64_t kLabelAlg = 1;
+constexpr std::int64_t kLabelCrit = 2;
+constexpr std::int64_t kLabelKid = 4;
+
+Refusal Malformed(std::string detail) {
+  return Refuse(RefusalReason::kMalformed, "COSE_Mac0: " + std::move(detail));
+}
+
+// Collected header parameters from both buckets.
+struct Headers {
+  std::optional<std::int64_t> alg;
+  bool alg_seen = false;
+  std::optional<std::string> kid;
+};
+
+std::optional<Refusal> ReadHeaderMap(const CborItem& map, std::vector<std::string>* seen,
+                                     Headers* headers) {
+  if (map.type != CborItem::Type::kMap) return Malformed("a header bucket is not a map");
+  for (std::size_t i = 0; i + 1 < map.items.size(); i += 2) {
+    const CborItem& key = map.items[i];
+    const CborItem& value = map.items[i + 1];
+    // RFC 9052 section 3: labels are int or tstr; one label in only one bucket, once.
+    std::string identity;
+    if (key.IsInteger()) {
+      identity = (key.type == CborItem::Type::kNegative ? "-" : "+") + std::to_string(key.value);
+    } else if (key.type == CborItem::Type::kText) {
+      identity = "t" + key.bytes;
+    } else {
+      return Malformed("a header label is neither int nor text");
+    }
+    for (const std::string& s : *seen) {
+      if (s == identity) return Malformed("header label repeated");
+    }
+    seen->push_back(identity);
+    const std::optional<std::int64_t> label = key.AsInt64();
+    if (!key.IsInteger() || !label) continue;
+    if (*label == kLabelAlg) {
+      headers->alg_seen = true;
+      headers->alg = value.AsInt64();
+      if (!value.IsInteger() && value.type != CborItem::Type::kText) {
+        return Malformed("alg is neither int nor text");
+      }
+    } else if (*label == kLabelCrit) {
+      // We understand no optional header parameter, so any crit list names one we do not.
+      return Refuse(RefusalReason::kUnsupported, "COSE_Mac0: crit header present");
+    } else if (*label == kLabelKid) {
+      if (value.type != CborItem::Type::kBytes) return Malformed("kid is not a bstr");
+      headers->kid = value.bytes;
+    }
+  }
+  return std::nullopt;
+}
+
+std::string Hmac(std::string_view key, std::string_view data) {
+  unsigned char digest[EVP_MAX_MD_SIZE];
+  unsigned int length = 0;
+  HMAC(EVP_sha256(), key.data(), static_cast<int>(key.size()),
+       reinterpret_cast<const unsigned char*>(data.data()), data.size(), digest, &length);
+  return std::string(reinterpret_cast<const char*>(digest), length);
+}
+
+// The protected bytes as they enter MAC_structure: an empty map counts as h''.
+std::string_view ProtectedForMac(std::string_view protected_bytes) {
+  return protected_bytes == std::string_view("\xa0", 1) ? std::string_view() : protected_bytes;
+}
+
+}  // namespace
+
+const char* MacAlgorithmName(MacAlgorithm alg) {
+  return alg == MacAlgorithm::kHmac256_64 ? "HMAC 256/64" : "HMAC 256/256";
+}
+
+std::size_t MacTagLength(MacAlgorithm alg) { return alg == MacAlgorithm::kHmac256_64 ? 8 : 32; }
+
+std::string MacStructure(std::string_view protected_bytes, std::string_view external_aad,
+                         std::string_view payload) {
+  CborWriter w;
+  w.Array(4);
+  w.Text("MAC0");
+  w.Bytes(protected_bytes);
+  w.Bytes(external_aad);
+  w.Bytes(payload);
+  return w.Take();
+}
+
+DecodeResult<CoseMac0> ParseCoseMac0(std::string_view bytes) {
+  Result<CborItem> decoded = DecodeCbor(bytes);
+  if (!decoded.ok()) return Malformed(decoded.status().message());
+  CoseMac0 out;
+  const CborItem* array = &decoded.value();
+  if (array->type == CborItem::Type::kTag) {
+    if (array->value != kCoseMac0Tag) {
+      return Refuse(RefusalReason::kUnsupported,
+                    "COSE_Mac0: CBOR tag " + std::to_string(array->value) + " (expected 17)");
+    }
+    out.tagged = true;
+    array = &array->items[0];
+  }
+  if (array->type != CborItem::Type::kArray || array->items.size() != 4) {
+    return Malformed("not an array of 4");
+  }
+  const CborItem& protected_item = array->items[0];
+  const CborItem& unprotected = array->items[1];
+  const CborItem& payload = array->items[2];
+  const CborItem& tag = array->items[3];
+  if (protected_item.type != CborItem::Type::kBytes) return Malformed("protected is not a bstr");
+  if (payload.IsNull()) return Malformed("detached payload");
+  if (payload.type != CborItem::Type::kBytes || tag.type != CborItem::Type::kBytes) {
+    return Malformed("payload or tag is not a bstr");
+  }
+  std::vector<std::string> seen;
+  Headers headers;
+  if (!protected_item.bytes.empty()) {
+    Result<CborItem> map = DecodeCbor(protected_item.bytes);
+    if (!map.ok()) return Malformed("protected header: " + map.status().message());
+    if (auto refusal = ReadHeaderMap(map.value(), &seen, &headers)) return *refusal;
+  }
+  if (auto refusal = ReadHeaderMap(unprotected, &seen, &headers)) return *refusal;
+  if (!headers.alg_seen) return Malformed("no alg");
+  if (!headers.alg || (*headers.alg != 4 && *headers.alg != 5)) {
+    return Refuse(RefusalReason::kUnsupported,
+                  "COSE_Mac0: alg is not 4 (HMAC 256/64) or 5 (HMAC 256/256)");
+  }
+  out.alg = static_cast<MacAlgorithm>(*headers.alg);
+  if (tag.bytes.size() != MacTagLength(out.alg)) return Malformed("tag length does not match alg");
+  out.protected_bytes = protected_item.bytes;
+  out.kid = headers.kid.value_or("");
+  out.payload = payload.bytes;
+  out.tag = tag.bytes;
+  return out;
+}
+
+bool VerifyCoseMac0(const CoseMac0& message, std::string_view key, std::string_view external_aad) {
+  const std::string expected =
+      Hmac(key, MacStructure(ProtectedForMac(message.protected_bytes), external_aad,
+                             message.payload));
+  const std::size_t length = MacTagLength(message.alg);
+  if (message.tag.size() != length || expected.size() < length) return false;
+  return CRYPTO_memcmp(expected.data(), message.tag.data(), length) == 0;
+}
+
+std::string CreateCoseMac0(std::string_view payload, std::string_view key, MacAlgorithm alg,
+                           std::string_view kid, bool tagged, std::string_view external_aad) {
+  CborWriter header;
+  header.Map(1);
+  header.Int(kLabelAlg);
+  header.Int(static_cast<int>(alg));
+  const std::string protected_bytes = header.Take();
+  const std::string tag =
+      Hmac(key, MacStructure(protected_bytes, external_aad, payload)).substr(0, MacTagLength(alg));
+  CborWriter w;
+  if (tagged) w.Tag(kCoseMac0Tag);
+  w.Array(4);
+  w.Bytes(protected_bytes);
+  if (kid.empty()) {
+    w.Map(0);
+  } else {
+    w.Map(1);
+    w.Int(kLabelKid);
+    w.Bytes(kid);
+  }
+  w.Bytes(payload);
+  w.Bytes(tag);
+  return w.Take();
+}
+
+}  // namespace ampledger
