@@ -161,16 +161,19 @@ DayKind Tariff::KindOf(date::year_month_day day, int season) const {
 }
 
 RateSlot Tariff::At(date::year_month_day day, int minute_of_day) const {
-  RateSlot slot;
-  slot.season = SeasonOf(day.month() / day.day());
-  slot.day_kind = KindOf(day, slot.season);
-  const Season& season = rates_.seasons[slot.season];
-  slot.period = default_period_[slot.season];
+  int season = SeasonOf(day.month() / day.day());
+  return PeriodOf(day, season, KindOf(day, season), minute_of_day);
+}
+
+RateSlot Tariff::PeriodOf(date::year_month_day day, int season_index, DayKind kind,
+                          int minute_of_day) const {
+  RateSlot slot{season_index, default_period_[season_index], kind};
+  const Season& season = rates_.seasons[season_index];
   for (std::size_t k = 0; k < season.windows.size(); ++k) {
     const RateWindow& window = season.windows[k];
-    if ((window.months & MonthBit(day.month())) &&
-        (window.day_kinds & DayKindBit(slot.day_kind)) && WindowHolds(window, minute_of_day)) {
-      slot.period = window_period_[slot.season][k];
+    if ((window.months & MonthBit(day.month())) && (window.day_kinds & DayKindBit(kind)) &&
+        WindowHolds(window, minute_of_day)) {
+      slot.period = window_period_[season_index][k];
       break;
     }
   }
@@ -180,13 +183,22 @@ RateSlot Tariff::At(date::year_month_day day, int minute_of_day) const {
 Result<std::vector<EnergyCharge>> Tariff::PriceEnergy(
     const LocalTime& local, std::span<const BucketEnergy> buckets) const {
   std::map<std::pair<int, int>, double> kwh;  // (season, period) -> kWh
+  // Buckets come mostly in order, 96 to a day: look the season and day kind up once a day.
+  std::optional<date::year_month_day> day;
+  int season = 0;
+  DayKind kind = DayKind::kWeekday;
   for (const BucketEnergy& bucket : buckets) {
     if (bucket.start_ms % kMsPerBucket != 0) {
       return Status::InvalidArgument("bucket at " + std::to_string(bucket.start_ms) +
                                      " ms does not start on a 15-minute boundary");
     }
     LocalMoment moment = local.At(bucket.start_ms);
-    RateSlot slot = At(moment.date, moment.minute_of_day);
+    if (moment.date != day) {
+      day = moment.date;
+      season = SeasonOf(day->month() / day->day());
+      kind = KindOf(*day, season);
+    }
+    RateSlot slot = PeriodOf(*day, season, kind, moment.minute_of_day);
     kwh[{slot.season, slot.period}] += bucket.kwh;
   }
   std::vector<EnergyCharge> lines;

@@ -134,6 +134,7 @@ class Tariff {
   explicit Tariff(TariffRates rates) : rates_(std::move(rates)) {}
 
   int SeasonOf(date::month_day day) const;
+  RateSlot PeriodOf(date::year_month_day day, int season, DayKind kind, int minute_of_day) const;
 
   TariffRates rates_;
   // window_period_[s][w]: index in seasons[s].prices of window w's period; default_period_[s].
