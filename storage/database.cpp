@@ -147,7 +147,17 @@ Status Database::CheckVersion(int version) const {
   return Status();
 }
 
+// Small pages suit the append pattern: each commit rewrites the partly filled last leaf page
+// (and its WAL frame), so the page size is paid on every commit. Measured with the writer
+// bench at home-like load: 4096-byte pages wrote ~710 bytes per reading, 1024-byte pages
+// ~430 (storage/README.md). Takes effect only on a new database.
+constexpr int kPageSize = 1024;
+
 Status Database::Configure(const StorageConfig& options) {
+  if (Status s = Exec("PRAGMA page_size = " + std::to_string(kPageSize), "set page_size");
+      !s.ok()) {
+    return s;
+  }
   // journal_mode answers with the mode in force; WAL can be refused (e.g. some network file
   // systems), and without it readers would block the writer.
   Result<Statement> mode = Prepare("PRAGMA journal_mode = WAL");
@@ -162,7 +172,8 @@ Status Database::Configure(const StorageConfig& options) {
   // The WAL is checkpointed every `checkpoint_pages` pages and truncated back to
   // wal_limit_bytes afterwards, so it stays bounded; half the limit between checkpoints keeps
   // one page from being copied to the main file more often than needed.
-  std::int64_t checkpoint_pages = std::max<std::int64_t>(100, options.wal_limit_bytes / 4096 / 2);
+  std::int64_t checkpoint_pages =
+      std::max<std::int64_t>(100, options.wal_limit_bytes / kPageSize / 2);
   std::string pragmas = std::string("PRAGMA synchronous = ") +
                         SynchronousName(options.synchronous) +
                         ";\nPRAGMA secure_delete = FAST;\nPRAGMA foreign_keys = ON;\n"

@@ -59,6 +59,7 @@ Status ReadingWriter::Prepare() {
       RollupBuilder::Create(db_, series_, max_gap_ms_);
   if (!rollups.ok()) return rollups.status();
   rollups_ = std::move(rollups.value());
+  open_written_at_ms_ = rollups_->newest_ms();
   Clock::time_point now = Clock::now();
   next_retention_ = now;
   next_open_flush_ = now + std::chrono::milliseconds(options_.open_bucket_flush_ms);
@@ -126,10 +127,15 @@ void ReadingWriter::Run() {
       queue_.clear();
       queued_rows_ = 0;
       Status status = error_;
-      bool write_open = stopping_ || now >= next_open_flush_;
+      bool write_open =
+          stopping_ || now >= next_open_flush_ ||
+          rollups_->newest_ms() >= open_written_at_ms_ + options_.open_bucket_flush_ms;
       lock.unlock();
       if (status.ok()) status = Commit(items, write_open);
-      if (status.ok() && write_open) next_open_flush_ = now + open_flush_every;
+      if (status.ok() && write_open) {
+        next_open_flush_ = now + open_flush_every;
+        open_written_at_ms_ = rollups_->newest_ms();
+      }
       lock.lock();
       if (!status.ok() && error_.ok()) error_ = status;
       lock.unlock();

@@ -55,8 +55,9 @@ struct WriterOptions {
   std::function<UnixMs()> clock;
   int retention_batch_rows = 2000;
   int retention_every_ms = 60 * 1000;
-  // How often open rollup buckets are written while readings flow (they are always written
-  // when their bucket closes and at Stop()).
+  // How often open rollup buckets are written: when the readings' own time has advanced this
+  // far since the last write, or this much wall time has passed. They are always written when
+  // their bucket closes and at Stop().
   int open_bucket_flush_ms = 60 * 1000;
 };
 
@@ -115,6 +116,7 @@ class ReadingWriter {
   Statement delete_old_;
   Clock::time_point next_retention_;
   Clock::time_point next_open_flush_;
+  UnixMs open_written_at_ms_ = 0;  // rollups_->newest_ms() when open buckets were last written
 
   mutable std::mutex mu_;
   std::condition_variable wake_;       // the writer thread waits on it, with mu_

@@ -45,6 +45,8 @@ class RollupBuilder {
   Status Finish(bool write_open);
 
   bool HasUnwrittenOpenBuckets() const;
+  // The latest end of any reading seen (stored or added); very old when there is none.
+  UnixMs newest_ms() const { return newest_ms_; }
   bool CheckInvariants() const;
 
  private:
