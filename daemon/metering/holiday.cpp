@@ -62,6 +62,7 @@ Status CheckRule(const HolidayRule& rule) {
       return r.month_day.ok() && r.weekday.ok() ? "" : "not a valid month, day and weekday";
     }
     std::string operator()(const EasterRelative& r) const {
+      // Within a year of Easter, so ObservedIn() finds every date from the years either side.
       return r.offset_days >= -366 && r.offset_days <= 366 ? "" : "offset must be -366..366 days";
     }
     std::string operator()(const ExplicitDates& r) const {
