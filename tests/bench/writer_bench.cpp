@@ -11,6 +11,7 @@
 //   writer_bench [folder, default the system temp folder] [simulated seconds, default 3600]
 #include <chrono>
 #include <cstdio>
+#include <deque>
 #include <filesystem>
 #include <fstream>
 #include <future>
@@ -111,19 +112,17 @@ Result<Figures> RunWriter(const std::string& path, std::int64_t seconds, bool fu
     Result<std::unique_ptr<ReadingWriter>> writer =
         ReadingWriter::Start(config, db->get(), series.value());
     if (!writer.ok()) return writer.status();
-    std::vector<std::future<Status>> pending;
+    std::deque<std::future<Status>> pending;
     for (std::int64_t s = 1; s <= seconds; ++s) {
       auto promise = std::make_shared<std::promise<Status>>();
       pending.push_back(promise->get_future());
       (*writer)->Submit({Second(s, registers, random), {}},
                         [promise](const Status& status) { promise->set_value(status); });
       // Home-like: wait for each second's commit, as ingest acknowledges each datagram.
-      // Full speed: keep up to ~40k readings in flight.
-      if (!full_speed || pending.size() >= 800) {
-        for (auto& p : pending) {
-          if (Status status = p.get(); !status.ok()) return status;
-        }
-        pending.clear();
+      // Full speed: keep up to 40,000 readings in flight.
+      while (!pending.empty() && (!full_speed || pending.size() >= 800)) {
+        if (Status status = pending.front().get(); !status.ok()) return status;
+        pending.pop_front();
       }
     }
     for (auto& p : pending) {
@@ -199,9 +198,10 @@ int Main(int argc, char** argv) {
   auto rate = [](const Figures& f) { return f.rows / f.seconds; };
   std::printf("home-like load (%lld simulated s, one commit per s, %lld readings):\n",
               static_cast<long long>(home_seconds), static_cast<long long>(home->rows));
-  std::printf("  writer incl. rollups: %8.1f bytes written per reading  (target <= 600)\n",
-              per_row(*home));
-  std::printf("  bare insert:          %8.1f bytes written per reading\n", per_row(*home_bare));
+  std::printf("  writer incl. rollups: %8.1f bytes written per reading  (target <= 600),"
+              " %8.0f readings/s\n", per_row(*home), rate(*home));
+  std::printf("  bare insert:          %8.1f bytes written per reading,"
+              "                    %8.0f readings/s\n", per_row(*home_bare), rate(*home_bare));
   std::printf("full speed (%lld readings):\n", static_cast<long long>(full->rows));
   std::printf("  writer incl. rollups: %10.0f readings/s  (%.1f bytes/reading)\n", rate(*full),
               per_row(*full));
