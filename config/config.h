@@ -141,7 +141,8 @@ struct AlertRuleConfig {
   std::vector<std::string> circuits;
   std::vector<std::string> units;
   std::vector<std::string> nodes;
-  double level_watts = 0;         // required by every kind but kBudget and kNodeSilent (0..1e6)
+  // Required by every kind but kBudget and kNodeSilent (above 0, up to 1e6).
+  double level_watts = 0;
   // Hysteresis; defaults to level_watts. kPowerBelow: >= level_watts; others: <= level_watts.
   double clear_watts = 0;
   double hold_seconds = 0;        // 0..604800
@@ -151,7 +152,7 @@ struct AlertRuleConfig {
   int nights = 3;                 // kStandbyCreep (1..60)
   std::string window_start;       // kLeftOn: "HH:MM" local; both window ends or neither
   std::string window_end;         // kLeftOn needs hold_seconds > 0 or a window (or both)
-  double budget_kwh = 0;          // kBudget: exactly one of kwh or cost, > 0
+  double budget_kwh = 0;          // kBudget: exactly one of kwh or cost (above 0, up to 1e9)
   double budget_cost = 0;         // in the site's currency
   std::string budget_period = "day";  // day | week | cycle
 };
