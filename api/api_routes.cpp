@@ -88,7 +88,23 @@ Result<HttpResponse> Nodes(const ApiContext& context) {
     node["last_seen"] = health.last_seen_ms == 0 ? json(nullptr) : json(health.last_seen_ms);
     nodes.push_back(node);
   }
-  return HttpResponse::Json(json{{"nodes", nodes}, {"time_unit", "ms since 1970-01-01Z"}}.dump());
+  const IngestStats& ingest = *context.ingest;
+  json refused = json::object();
+  for (int reason = 0; reason < kRefusalReasonCount; ++reason) {
+    refused[RefusalName(static_cast<RefusalReason>(reason))] = ingest.refused[reason].load();
+  }
+  json datagrams = {{"received", ingest.received.load()},
+                    {"stored", ingest.stored.load()},
+                    {"duplicates", ingest.duplicates.load()},
+                    {"write_failures", ingest.write_failures.load()},
+                    {"acks_sent", ingest.acks_sent.load()},
+                    {"kernel_drops", context.receiver->kernel_drops()},
+                    {"refused", refused}};
+  return HttpResponse::Json(json{{"nodes", nodes},
+                                 {"datagrams", datagrams},
+                                 {"readings_stored", ingest.readings_stored.load()},
+                                 {"time_unit", "ms since 1970-01-01Z"}}
+                                .dump());
 }
 
 // Live values per circuit: the newest reading of each of its channels in the last hour.

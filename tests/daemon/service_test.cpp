@@ -1,0 +1,204 @@
+// End to end through the real daemon: UDP on 127.0.0.1, COSE_Mac0, the writer, a real SQLite
+// file, acknowledgements, and the HTTP API.
+#include "daemon/service.h"
+
+#include <doctest/doctest.h>
+#include <httplib.h>
+#include <sqlite3.h>
+
+#include <chrono>
+#include <cmath>
+#include <nlohmann/json.hpp>
+#include <thread>
+
+#include "daemon/ingest/node_client.h"
+#include "daemon/ingest/udp_receiver.h"
+#include "test_util.h"
+
+namespace ampledger {
+namespace {
+
+constexpr const char* kBenchKeyHex =
+    "00112233445566778899aabbccddeeff00112233445566778899aabbccddeeff";
+
+std::string BenchKey() {
+  std::string key;
+  for (int i = 0; i < 32; ++i) {
+    key.push_back(static_cast<char>(std::stoi(std::string(kBenchKeyHex + 2 * i, 2), nullptr, 16)));
+  }
+  return key;
+}
+
+Config BenchConfig(const testing::TempDir& dir) {
+  std::string toml = std::string(R"toml(
+[site]
+name = "Test bench"
+time_zone = "UTC"
+nominal_volts = [230]
+currency = "EUR"
+
+[[node]]
+id = "bench"
+key = ")toml") + kBenchKeyHex + R"toml("
+[[node.channel]]
+id = "ct1"
+
+[[circuit]]
+id = "heater"
+channels = ["bench/ct1"]
+
+[storage]
+path = "bench.db"
+
+[ingest]
+listen = "127.0.0.1:0"
+
+[http]
+listen = "127.0.0.1:0"
+threads = 2
+)toml";
+  Result<Config> config = ParseConfig(toml, dir.File("bench.toml"));
+  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+  return *config;
+}
+
+UnixMs NowMs() {
+  return std::chrono::duration_cast<std::chrono::milliseconds>(
+             std::chrono::system_clock::now().time_since_epoch())
+      .count();
+}
+
+// One 10-second interval of a steady load: the register grows by exactly watts x 10 s.
+NodePack HeaterPack(std::uint32_t boot, std::uint32_t seq, UnixMs end_ms, double watts,
+                    double register_j) {
+  ChannelSample sample;
+  sample.channel = "ct1";
+  sample.end_ms = end_ms;
+  sample.duration_ms = 10000;
+  sample.amps = watts / 230.0;
+  sample.real_watts = watts;
+  sample.real_register_j = register_j;
+  return NodePack{"bench", boot, seq, 10000, {sample}};
+}
+
+double QueryDouble(const std::string& path, const std::string& sql) {
+  sqlite3* db = nullptr;
+  REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
+  sqlite3_stmt* statement = nullptr;
+  REQUIRE(sqlite3_prepare_v2(db, sql.c_str(), -1, &statement, nullptr) == SQLITE_OK);
+  REQUIRE(sqlite3_step(statement) == SQLITE_ROW);
+  double value = sqlite3_column_double(statement, 0);
+  sqlite3_finalize(statement);
+  sqlite3_close(db);
+  return value;
+}
+
+// Waits (bounded) until every pack sent through `client` is acknowledged, resending.
+void DrainAcks(NodeClient& client) {
+  for (int round = 0; round < 300 && client.unacked() > 0; ++round) {
+    client.PollAcks(100);
+    client.ResendDue(256);
+  }
+}
+
+TEST_SUITE("daemon") {
+  TEST_CASE("kWh survive lost datagrams, resends, duplicates and a node reboot") {
+    testing::TempDir dir;
+    Config config = BenchConfig(dir);
+    const std::string db_path = config.storage.path;
+    Service service(config);
+    REQUIRE(service.Start().ok());
+
+    NodeClientOptions options;
+    options.node = "bench";
+    options.key = BenchKey();
+    // Resend soon: a resend must arrive while its seq is still inside the daemon's
+    // anti-replay window (ReplayWindow::kWindowSize datagrams behind the newest).
+    options.resend_after_ms = 20;
+    auto client = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), options);
+    REQUIRE(client.ok());
+
+    // 3000 intervals of 10 s ending now; every tenth datagram is lost on its first send and
+    // resent later; the node reboots halfway (boot 2, seq and register start again from zero).
+    // Packs of an earlier boot are refused as replays, so the node resends its losses before
+    // the reboot (as one that keeps unacknowledged packs in RAM would have to).
+    constexpr int kPacks = 3000;
+    const UnixMs first_end = NowMs() - kPacks * 10000;
+    double truth_wh = 0;
+    double register_j = 0;
+    std::uint32_t boot = 1, seq = 0;
+    for (int i = 0; i < kPacks; ++i) {
+      if (i == kPacks / 2) {
+        DrainAcks(**client);
+        REQUIRE((*client)->unacked() == 0);
+        boot = 2;
+        seq = 0;
+        register_j = 0;
+      }
+      double watts = 500 + 1500 * ((i / 37) % 2) + (i % 7);  // a thermostat cycling
+      register_j += watts * 10;
+      truth_wh += watts * 10 / 3600;
+      NodePack pack = HeaterPack(boot, ++seq, first_end + (i + 1) * 10000, watts, register_j);
+      while (!(*client)->Send(pack, /*lose=*/i % 10 == 3).ok()) (*client)->PollAcks(100);
+      (*client)->PollAcks(0);
+      (*client)->ResendDue(8);
+    }
+    DrainAcks(**client);
+    REQUIRE((*client)->unacked() == 0);
+    CHECK((*client)->acked() == kPacks);
+
+    // A duplicate of a stored datagram is acknowledged again and changes nothing.
+    const std::uint32_t stored_seq = kPacks / 2 - 10;  // boot 2, inside the replay window
+    REQUIRE((*client)
+                ->Send(HeaterPack(2, stored_seq, first_end + (kPacks / 2 + stored_seq) * 10000,
+                                  9999, 1))
+                .ok());
+    DrainAcks(**client);
+    CHECK((*client)->unacked() == 0);
+
+    // Forged (wrong key), replayed (an old boot) and garbage datagrams: counted, no ack.
+    NodeClientOptions forger = options;
+    forger.key = std::string(32, 'x');
+    auto forged = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), forger);
+    REQUIRE((*forged)->Send(HeaterPack(2, 99999, NowMs(), 5000, 1e9)).ok());
+    auto replayer = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), options);
+    REQUIRE((*replayer)->Send(HeaterPack(1, 5, first_end + 50000, 5000, 1e9)).ok());
+    CHECK((*forged)->PollAcks(300) == 0);
+    CHECK((*replayer)->PollAcks(300) == 0);
+    httplib::Client api("127.0.0.1", service.http_port());
+    {
+      int garbage = ::socket(AF_INET, SOCK_DGRAM, 0);
+      PeerAddress to = ResolveAddress("127.0.0.1:" + std::to_string(service.udp_port())).value();
+      for (const std::string bytes : {"not senml", "[{\"bn\":", "\xa1\x01", ""}) {
+        ::sendto(garbage, bytes.data(), bytes.size(), 0,
+                 reinterpret_cast<const sockaddr*>(&to.address), to.length);
+      }
+      ::close(garbage);
+    }
+    nlohmann::json nodes;
+    for (int attempt = 0; attempt < 50; ++attempt) {
+      auto answer = api.Get("/v1/nodes");
+      REQUIRE(answer);
+      nodes = nlohmann::json::parse(answer->body);
+      if (nodes["datagrams"]["refused"]["malformed"].get<int>() >= 4) break;
+      std::this_thread::sleep_for(std::chrono::milliseconds(50));
+    }
+    CHECK(nodes["datagrams"]["refused"]["bad_tag"] == 1);
+    CHECK(nodes["datagrams"]["refused"]["replay"] == 1);
+    CHECK(nodes["datagrams"]["refused"]["malformed"].get<int>() >= 3);
+    CHECK(nodes["datagrams"]["duplicates"].get<int>() >= 1);
+    CHECK(nodes["datagrams"]["stored"] == kPacks);
+    CHECK(nodes["readings_stored"] == kPacks);
+    CHECK(nodes["nodes"][0]["boot"] == 2);
+
+    service.RequestStop();
+    REQUIRE(service.Wait().ok());
+
+    CHECK(QueryDouble(db_path, "SELECT count(*) FROM reading") == kPacks);
+    double stored_wh = QueryDouble(db_path, "SELECT sum(real_wh) FROM rollup");
+    CHECK(stored_wh == doctest::Approx(truth_wh).epsilon(1e-9));
+  }
+}
+
+}  // namespace
+}  // namespace ampledger
