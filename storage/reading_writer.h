@@ -76,7 +76,8 @@ class ReadingWriter {
   // Queues `batch`. `done` runs exactly once: with OK after the batch committed (on the
   // writer thread); or, on the calling thread before Submit returns, with InvalidArgument
   // (a channel index out of range), Unavailable (queue full, or stopped) or the sticky error.
-  // `done` must not call Submit() or Stop().
+  // `done` may run on the writer thread: it must not call Stop(), and it should be quick
+  // (the writer waits for it before the next commit).
   void Submit(ReadingBatch batch, std::function<void(const Status&)> done);
 
   // OK, or the sticky error that stopped the writer.
@@ -129,7 +130,8 @@ class ReadingWriter {
   std::once_flag stopped_;
 };
 
-// Ingest's stored node states, read on `db` (any connection) at start-up.
+// Ingest's stored node states, at start-up: on the writer's connection before
+// ReadingWriter::Start(), or on a reader connection.
 Result<std::vector<NodeState>> LoadNodeStates(const Database& db);
 
 }  // namespace ampledger
