@@ -86,6 +86,10 @@ Result<ChannelReading> DeriveReading(const ChannelSample& sample, int channel_in
   reading.volts_measured = measured.has_value();
   double volts = measured ? *measured : voltage.nominal_volts;
 
+  // Rule 4b: one channel per leg of a 240 V circuit.
+  const double legs = static_cast<double>(circuit.channels.size());
+  if (legs > 1 && !circuit.one_leg_of_split_phase && volts > kMaxLegVolts) volts /= legs;
+
   // Rule 5: one leg of a split-phase 240 V load.
   double leg_factor = 1;
   if (circuit.one_leg_of_split_phase && volts <= kMaxLegVolts) leg_factor = 2;

@@ -19,6 +19,10 @@
 //     registers (it corrects the CT and burden; it does not touch voltage).
 //  4. Voltage: the sample's own volts, else VoltageReference::measured_volts (the circuit's
 //     voltage_from channel in the same pack), both "measured"; else the nominal volts.
+//  4b. Legs: a circuit fed by several channels, one CT on each leg of a 240 V split-phase
+//     load (a water heater, a dryer), has each channel carry its own leg's current at the
+//     leg voltage: P = V_leg x I_1 + V_leg x I_2. A voltage above kMaxLegVolts (the circuit's
+//     nominal 240 V, or a line-to-line measurement) is divided among the channels, 120 V each.
 //  5. Split phase (CircuitConfig::one_leg_of_split_phase): a 240 V load measured by one CT on
 //     one leg carries the same current on the other leg, so its voltage is line to line. A
 //     voltage of at most kMaxLegVolts is taken as a leg (line-to-neutral) voltage and doubled:

@@ -241,6 +241,21 @@ TEST_SUITE("metering") {
     CHECK(Derive(Amps(1), ChannelConfig{}, dryer, {kMaxLegVolts, {}}).volts == 2 * kMaxLegVolts);
   }
 
+  TEST_CASE("legs: a 240 V circuit with a CT on each leg gives each channel 120 V") {
+    CircuitConfig circuit;
+    circuit.channels = {{"n", "ct4"}, {"n", "ct5"}};
+    circuit.assumed_power_factor = 1.0;
+    // 18.75 A through a 4500 W, 240 V element: each leg's CT reads 18.75 A at 120 V.
+    ChannelReading leg = Derive(Amps(18.75), ChannelConfig{}, circuit, {240, {}});
+    CHECK(leg.volts == 120);
+    CHECK(leg.real_watts == doctest::Approx(2250));  // the two legs sum to 4500 W
+    ChannelSample measured = Amps(18.75);
+    measured.volts = 242;  // a line-to-line measurement is shared the same way
+    CHECK(Derive(measured, ChannelConfig{}, circuit).volts == 121);
+    measured.volts = 121;  // a leg measurement is already a leg
+    CHECK(Derive(measured, ChannelConfig{}, circuit).volts == 121);
+  }
+
   TEST_CASE("apparent power is raised to a measured real power above it") {
     ChannelSample sample = Amps(10);
     sample.real_watts = 1250;  // nominal 120 V x 10 A = 1200 VA: the real voltage was higher
