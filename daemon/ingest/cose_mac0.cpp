@@ -146,6 +146,8 @@ DecodeResult<CoseMac0> ParseCoseMac0(std::string_view bytes) {
 }
 
 bool VerifyCoseMac0(const CoseMac0& message, std::string_view key, std::string_view external_aad) {
+  // HMAC accepts an empty key, but a node without a key has nothing to authenticate with.
+  if (key.empty()) return false;
   const std::string expected =
       Hmac(key, MacStructure(ProtectedForMac(message.protected_bytes), external_aad,
                              message.payload));

@@ -45,6 +45,7 @@ struct CoseMac0 {
 DecodeResult<CoseMac0> ParseCoseMac0(std::string_view bytes);
 
 // True if `message.tag` is the MAC of `message` under `key` (constant-time comparison).
+// Always false for an empty key.
 bool VerifyCoseMac0(const CoseMac0& message, std::string_view key,
                     std::string_view external_aad = {});
 

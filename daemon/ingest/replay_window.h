@@ -31,6 +31,11 @@ enum class ReplayVerdict { kFresh, kDuplicate, kTooOld, kOldBoot };
 
 const char* ReplayVerdictName(ReplayVerdict verdict);  // "fresh", "duplicate", ...
 
+// kTooOld and kOldBoot: the datagram is refused and counted as RefusalReason::kReplay.
+inline bool IsReplay(ReplayVerdict verdict) {
+  return verdict == ReplayVerdict::kTooOld || verdict == ReplayVerdict::kOldBoot;
+}
+
 class ReplayWindow {
  public:
   // RFC 4303 asks for at least 32 and recommends 64; we keep 1024 so that a node resending

@@ -43,6 +43,9 @@ Refusal Malformed(std::string detail) {
   return Refuse(RefusalReason::kMalformed, "SenML: " + std::move(detail));
 }
 
+// For the CBOR record readers, whose messages DecodeSenmlCbor prefixes.
+Refusal Bad(std::string detail) { return Refuse(RefusalReason::kMalformed, std::move(detail)); }
+
 bool IsUnderstoodVersion(double version) {
   return (version >= 1 && version <= kSenmlBaseVersion) || version == kSenmlSecondaryUnitsVersion;
 }
@@ -64,18 +67,18 @@ std::optional<Refusal> CborNumber(const CborItem& item, SenmlField* field) {
     const CborItem& pair = item.items[0];
     if (pair.type != CborItem::Type::kArray || pair.items.size() != 2 ||
         !pair.items[0].IsInteger() || !pair.items[1].IsInteger()) {
-      return Malformed("decimal fraction is not [exponent, mantissa]");
+      return Bad("decimal fraction is not [exponent, mantissa]");
     }
     const double exponent = pair.items[0].AsDouble();
-    if (std::fabs(exponent) > 400) return Malformed("decimal fraction exponent out of range");
+    if (std::fabs(exponent) > 400) return Bad("decimal fraction exponent out of range");
     field->number = pair.items[1].AsDouble() * std::pow(10.0, exponent);
     return std::nullopt;
   }
   if (item.type == CborItem::Type::kTag) {
     return Refuse(RefusalReason::kUnsupported,
-                  "SenML: CBOR tag " + std::to_string(item.value) + " on a number");
+                  "CBOR tag " + std::to_string(item.value) + " on a number");
   }
-  return Malformed("expected a number");
+  return Bad("expected a number");
 }
 
 std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlField* field) {
@@ -84,7 +87,7 @@ std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlFi
     if (auto refusal = CborNumber(item, field)) return refusal;
     // RFC 8428 section 6: "For the version number, only an unsigned integer is allowed."
     if (label == SenmlLabel::kBaseVersion && item.type != CborItem::Type::kUnsigned) {
-      return Malformed("bver must be an unsigned integer");
+      return Bad("bver must be an unsigned integer");
     }
     return std::nullopt;
   }
@@ -92,14 +95,14 @@ std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlFi
   const bool ok = (kind == SenmlField::Kind::kText && item.type == CborItem::Type::kText) ||
                   (kind == SenmlField::Kind::kBytes && item.type == CborItem::Type::kBytes) ||
                   (kind == SenmlField::Kind::kBool && item.IsBool());
-  if (!ok) return Malformed(std::string("wrong type for ") + SenmlLabelName(label));
+  if (!ok) return Bad(std::string("wrong type for ") + SenmlLabelName(label));
   field->text = item.bytes;
   field->boolean = item.value == 21;
   return std::nullopt;
 }
 
 DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
-  if (map.type != CborItem::Type::kMap) return Malformed("a record is not a map");
+  if (map.type != CborItem::Type::kMap) return Bad("a record is not a map");
   RawSenmlRecord record;
   std::vector<std::string> text_keys;
   for (std::size_t i = 0; i + 1 < map.items.size(); i += 2) {
@@ -109,20 +112,20 @@ DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
       // RFC 8428 section 6: labels beyond Table 4 are text; unknown ones are ignored unless
       // they end in "_" (section 4.4, must understand).
       if (std::find(text_keys.begin(), text_keys.end(), key.bytes) != text_keys.end()) {
-        return Malformed("duplicate label \"" + key.bytes + "\"");
+        return Bad("duplicate label \"" + key.bytes + "\"");
       }
       text_keys.push_back(key.bytes);
       if (!key.bytes.empty() && key.bytes.back() == '_') {
         return Refuse(RefusalReason::kUnsupported,
-                      "SenML: must-understand label \"" + key.bytes + "\"");
+                      "must-understand label \"" + key.bytes + "\"");
       }
       continue;
     }
     const std::optional<std::int64_t> number = key.AsInt64();
-    if (!number) return Malformed("a label is neither an integer nor text");
+    if (!number) return Bad("a label is neither an integer nor text");
     const std::optional<SenmlLabel> label = SenmlLabelFromCbor(*number);
     if (!label) continue;  // no further integer labels will be defined; ignore
-    if (record[*label]) return Malformed(std::string("duplicate label ") + SenmlLabelName(*label));
+    if (record[*label]) return Bad(std::string("duplicate label ") + SenmlLabelName(*label));
     SenmlField field;
     if (auto refusal = CborField(*label, value, &field)) return *refusal;
     record[*label] = std::move(field);
@@ -150,7 +153,7 @@ std::optional<Refusal> CheckFinite(const RawSenmlRecord& r) {
   for (const LabelInfo& info : kLabels) {
     const auto& field = r[info.label];
     if (field && field->kind == SenmlField::Kind::kNumber && !std::isfinite(field->number)) {
-      return Malformed(std::string(info.json) + " is not a finite number");
+      return Bad(std::string(info.json) + " is not a finite number");
     }
   }
   return std::nullopt;
@@ -195,7 +198,7 @@ DecodeResult<SenmlPack> ResolveSenml(const std::vector<RawSenmlRecord>& records,
   for (std::size_t index = 0; index < records.size(); ++index) {
     const RawSenmlRecord& r = records[index];
     const std::string where = "record " + std::to_string(index + 1) + ": ";
-    if (auto refusal = CheckFinite(r)) return Refuse(refusal->reason, where + refusal->detail);
+    if (auto refusal = CheckFinite(r)) return Malformed(where + refusal->detail);
     if (r[L::kBaseVersion]) {
       const SenmlField& v = *r[L::kBaseVersion];
       if (!v.integer || v.number < 0) return Malformed(where + "bver must be an unsigned integer");
@@ -277,7 +280,7 @@ DecodeResult<SenmlPack> DecodeSenmlCbor(std::string_view bytes, double now_secon
     DecodeResult<RawSenmlRecord> record = CborRecord(top->items[i]);
     if (!record.ok()) {
       return Refuse(record.reason(),
-                    "record " + std::to_string(i + 1) + ": " + record.refusal().detail);
+                    "SenML: record " + std::to_string(i + 1) + ": " + record.refusal().detail);
     }
     raw.push_back(std::move(record).value());
   }

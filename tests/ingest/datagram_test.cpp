@@ -125,6 +125,9 @@ TEST_CASE("each refusal reason of DecodeDatagram") {
     CHECK(RefusalOf(std::string(1401, '[')) == RefusalReason::kOversize);
   }
   SUBCASE("malformed") {
+    DecodeResult<DecodedDatagram> d = Decode(testing::FromHex("81a200616102f97c00"));
+    REQUIRE(!d.ok());
+    CHECK(d.refusal().detail == "SenML: record 1: v is not a finite number");
     CHECK(RefusalOf("") == RefusalReason::kMalformed);
     CHECK(RefusalOf("hello") == RefusalReason::kMalformed);
     CHECK(RefusalOf("[{\"bn\":") == RefusalReason::kMalformed);
@@ -153,6 +156,13 @@ TEST_CASE("each refusal reason of DecodeDatagram") {
     CHECK(RefusalOf(cose) == RefusalReason::kBadTag);
     CHECK(RefusalOf(EncodePack(pack, Cose(MacAlgorithm::kHmac256_256), KeyString(kNodes[1]))) ==
           RefusalReason::kBadTag);
+    // A plain node without a key cannot be impersonated with COSE_Mac0 under an empty key.
+    std::vector<NodeConfig> keyless = kNodes;
+    keyless[1].key.clear();
+    const std::string forged = EncodePack(IngestPack("shed"), Cose(MacAlgorithm::kHmac256_64), "");
+    DecodeResult<DecodedDatagram> d = DecodeDatagram(forged, kIngestNow, keyless, IngestConfig{});
+    REQUIRE(!d.ok());
+    CHECK(d.reason() == RefusalReason::kBadTag);
   }
   SUBCASE("kid_mismatch") {
     // A pack naming "shed" inside a COSE_Mac0 whose kid (and key) are garage's.

@@ -89,6 +89,14 @@ TEST_CASE("a higher boot resets the window; a lower boot is refused") {
   CHECK(w.Check(4, 1) == ReplayVerdict::kFresh);
 }
 
+TEST_CASE("too old and old boot count as replay; fresh and duplicate do not") {
+  CHECK(IsReplay(ReplayVerdict::kTooOld));
+  CHECK(IsReplay(ReplayVerdict::kOldBoot));
+  CHECK(!IsReplay(ReplayVerdict::kFresh));
+  CHECK(!IsReplay(ReplayVerdict::kDuplicate));
+  CHECK(std::string(ReplayVerdictName(ReplayVerdict::kOldBoot)) == "old_boot");
+}
+
 TEST_CASE("seq 0 and 2^32 - 1") {
   ReplayWindow w;
   w.Update(0, 0);
