@@ -18,9 +18,9 @@ std::string_view KeyOf(const NodeConfig& node) {
   return {reinterpret_cast<const char*>(node.key.data()), node.key.size()};
 }
 
-// The node part of the first record's name, to find the node before reading the pack.
+// The node part of the first record's name (the pack has records), to find the node before
+// reading the pack.
 std::string FirstNodeId(const SenmlPack& pack) {
-  if (pack.records.empty()) return "";
   const std::string& name = pack.records[0].name;
   return name.substr(0, name.find('/'));
 }
@@ -85,6 +85,7 @@ DecodeResult<DecodedDatagram> DecodeDatagram(std::string_view bytes, UnixMs now,
     senml.emplace(out.encoding.format == PackFormat::kJson ? DecodeSenmlJson(bytes, now_seconds)
                                                            : DecodeSenmlCbor(bytes, now_seconds));
     if (!senml->ok()) return senml->refusal();
+    if (senml->value().records.empty()) return Refuse(RefusalReason::kMalformed, "empty pack");
     const std::string id = FirstNodeId(senml->value());
     node = FindNode(nodes, id);
     if (!node) return Refuse(RefusalReason::kUnknownNode, "base name node \"" + id + "\"");

@@ -32,6 +32,12 @@ Status NodeClient::Send(const NodePack& pack, bool lose) {
   if (unacked_.size() >= options_.max_unacked) {
     return Status::Unavailable(std::to_string(unacked_.size()) + " packs wait for an ack");
   }
+  if (!unacked_.empty()) {
+    const auto& [oldest_boot, oldest_seq] = unacked_.begin()->first;
+    if (oldest_boot == pack.boot && pack.seq - oldest_seq >= options_.max_seq_span) {
+      return Status::Unavailable("seq " + std::to_string(oldest_seq) + " waits for an ack");
+    }
+  }
   Unacked entry{EncodePack(pack, options_.encoding, options_.key),
                 std::chrono::steady_clock::now()};
   Status sent = lose ? Status::Ok() : Transmit(entry.bytes);

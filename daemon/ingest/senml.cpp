@@ -104,17 +104,19 @@ std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlFi
 DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
   if (map.type != CborItem::Type::kMap) return Bad("a record is not a map");
   RawSenmlRecord record;
-  std::vector<std::string> text_keys;
+  std::vector<std::string> other_keys;  // labels we do not know, kept to refuse duplicates
+  auto first_time = [&other_keys](std::string key) {
+    if (std::find(other_keys.begin(), other_keys.end(), key) != other_keys.end()) return false;
+    other_keys.push_back(std::move(key));
+    return true;
+  };
   for (std::size_t i = 0; i + 1 < map.items.size(); i += 2) {
     const CborItem& key = map.items[i];
     const CborItem& value = map.items[i + 1];
     if (key.type == CborItem::Type::kText) {
       // RFC 8428 section 6: labels beyond Table 4 are text; unknown ones are ignored unless
       // they end in "_" (section 4.4, must understand).
-      if (std::find(text_keys.begin(), text_keys.end(), key.bytes) != text_keys.end()) {
-        return Bad("duplicate label \"" + key.bytes + "\"");
-      }
-      text_keys.push_back(key.bytes);
+      if (!first_time("t" + key.bytes)) return Bad("duplicate label \"" + key.bytes + "\"");
       if (!key.bytes.empty() && key.bytes.back() == '_') {
         return Refuse(RefusalReason::kUnsupported,
                       "must-understand label \"" + key.bytes + "\"");
@@ -124,7 +126,10 @@ DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
     const std::optional<std::int64_t> number = key.AsInt64();
     if (!number) return Bad("a label is neither an integer nor text");
     const std::optional<SenmlLabel> label = SenmlLabelFromCbor(*number);
-    if (!label) continue;  // no further integer labels will be defined; ignore
+    if (!label) {  // no further integer labels will be defined; ignore
+      if (!first_time("i" + std::to_string(*number))) return Bad("duplicate label");
+      continue;
+    }
     if (record[*label]) return Bad(std::string("duplicate label ") + SenmlLabelName(*label));
     SenmlField field;
     if (auto refusal = CborField(*label, value, &field)) return *refusal;

@@ -129,6 +129,8 @@ TEST_CASE("each refusal reason of DecodeDatagram") {
     REQUIRE(!d.ok());
     CHECK(d.refusal().detail == "SenML: record 1: v is not a finite number");
     CHECK(RefusalOf("") == RefusalReason::kMalformed);
+    CHECK(RefusalOf("[]") == RefusalReason::kMalformed);
+    CHECK(RefusalOf(R"([{"bn":"shed/"}])") == RefusalReason::kMalformed);
     CHECK(RefusalOf("hello") == RefusalReason::kMalformed);
     CHECK(RefusalOf("[{\"bn\":") == RefusalReason::kMalformed);
     CHECK(RefusalOf(testing::FromHex("d18443a10104a0")) == RefusalReason::kMalformed);

@@ -79,6 +79,9 @@ TEST_CASE("CBOR SenML labels: duplicates, text labels, must-understand, bver typ
   CHECK(CborRefusal(FromHex("81a3006161" "0201" "0202")) == RefusalReason::kMalformed);
   // Unknown integer label 99 and unknown text label "zz" are ignored.
   CHECK(DecodeSenmlCbor(FromHex("81a4006161" "0201" "186301" "627a7a01"), kNow).ok());
+  // Unknown labels repeated are still duplicates.
+  CHECK(CborRefusal(FromHex("81a4006161" "0201" "186301" "186302")) == RefusalReason::kMalformed);
+  CHECK(CborRefusal(FromHex("81a4006161" "0201" "627a7a01" "627a7a02")) == RefusalReason::kMalformed);
   // Text label ending in "_": must understand.
   CHECK(CborRefusal(FromHex("81a3006161" "0201" "627a5f01")) == RefusalReason::kUnsupported);
   // bver as a float is not allowed in CBOR (RFC 8428 section 6).
