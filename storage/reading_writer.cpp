@@ -188,6 +188,7 @@ Status ReadingWriter::Transaction(const std::function<Status()>& body, std::stri
 }
 
 Status ReadingWriter::Commit(std::vector<Queued>& items, bool write_open) {
+  rollups_->set_raw_kept_from_ms(RetentionCutoff());
   return Transaction(
       [&] {
         for (const Queued& item : items) {
@@ -215,9 +216,12 @@ Status ReadingWriter::WriteOne(const ReadingBatch& batch) {
   return Status();
 }
 
+UnixMs ReadingWriter::RetentionCutoff() const {
+  return options_.clock() - static_cast<UnixMs>(storage_.raw_retention_days) * 86'400'000;
+}
+
 Status ReadingWriter::DeleteOldReadings(bool* more) {
-  UnixMs cutoff = options_.clock() - static_cast<UnixMs>(storage_.raw_retention_days) * 86400000;
-  delete_old_.Bind(1, static_cast<std::int64_t>(cutoff));
+  delete_old_.Bind(1, static_cast<std::int64_t>(RetentionCutoff()));
   delete_old_.Bind(2, static_cast<std::int64_t>(std::max(0, options_.retention_batch_rows - 1)));
   Status s = delete_old_.Run("delete old readings");
   *more = s.ok() && sqlite3_changes(db_->handle()) >= options_.retention_batch_rows;

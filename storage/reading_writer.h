@@ -101,6 +101,7 @@ class ReadingWriter {
   Status Commit(std::vector<Queued>& items, bool write_open);
   Status WriteOne(const ReadingBatch& batch);
   Status DeleteOldReadings(bool* more);
+  UnixMs RetentionCutoff() const;  // raw readings ending before this are deleted
   Status Transaction(const std::function<Status()>& body, std::string_view what);
 
   // Set before the thread starts; read-only afterwards.

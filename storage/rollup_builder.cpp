@@ -21,6 +21,7 @@ constexpr UnixMs kCloseSlackMs = 2 * 60 * kMsPerSecond;
 Result<std::unique_ptr<RollupBuilder>> RollupBuilder::Create(Database* db, const SeriesMap& series,
                                                              UnixMs max_gap_ms) {
   std::unique_ptr<RollupBuilder> builder(new RollupBuilder(db, series, max_gap_ms));
+  builder->raw_kept_from_ms_ = kLongAgo;
   if (Status s = builder->Prepare(); !s.ok()) return s;
   if (Status s = db->Exec("BEGIN IMMEDIATE", "recover rollups"); !s.ok()) return s;
   Status s = builder->Load();
@@ -148,7 +149,9 @@ Status RollupBuilder::Recompute() {
     }
   }
   recompute_.clear();
-  for (const auto& [from, to] : merged) {
+  for (auto [from, to] : merged) {
+    from = std::max(from, BucketStart(raw_kept_from_ms_ + max_gap_ms_) + kMsPerBucket);
+    if (from >= to) continue;
     Result<ChannelBuckets> fresh = RecomputeChannelBuckets(*db_, series_, from, to, max_gap_ms_);
     if (!fresh.ok()) return fresh.status();
     for (UnixMs bucket = from; bucket < to; bucket += kMsPerBucket) {

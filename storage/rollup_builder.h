@@ -44,6 +44,10 @@ class RollupBuilder {
   // step with the database: the writer must stop using it (its error is sticky).
   Status Finish(bool write_open);
 
+  // Raw readings before `t` may have been deleted by retention: buckets whose recomputation
+  // would read them keep their rows as they are (their raws are gone, the rollup is the record).
+  void set_raw_kept_from_ms(UnixMs t) { raw_kept_from_ms_ = t; }
+
   bool HasUnwrittenOpenBuckets() const;
   // The latest end of any reading seen (stored or added); very old when there is none.
   UnixMs newest_ms() const { return newest_ms_; }
@@ -76,6 +80,7 @@ class RollupBuilder {
   // Buckets before this were written closed (or never had data); a bucket at or after it
   // that is not open has no row yet.
   UnixMs closed_before_ms_ = 0;
+  UnixMs raw_kept_from_ms_ = 0;
   std::map<UnixMs, OpenBucket> open_;  // by bucket start; all of them are in rollup_pending
   std::vector<std::pair<UnixMs, UnixMs>> recompute_;  // time ranges marked by Add()
   std::vector<UnixMs> newly_open_;                     // to insert into rollup_pending
