@@ -46,6 +46,8 @@ Result<Config> PrepareDemo(const DemoOptions& options) {
   Result<Config> config = LoadConfig(config_path);
   if (!config.ok()) return config.status();
   config->ingest.listen = options.udp_listen;
+  // The simulated nodes backfill two weeks of history, older than the usual resend horizon.
+  config->ingest.resend_horizon_seconds = 30 * 86400;
   config->http.listen = options.http_listen;
   spdlog::info("demo site \"{}\": config and database in {}", config->site.name, *dir);
   spdlog::info("open http://{}/ in a browser; Ctrl-C stops the demo", options.http_listen);

@@ -6,13 +6,17 @@
 #include <spdlog/spdlog.h>
 
 #include <atomic>
+#include <functional>
 #include <cstdio>
 #include <iostream>
 #include <thread>
 
 #include "config/config.h"
+#include "daemon/ct_plan_command.h"
 #include "daemon/demo.h"
+#include "daemon/demo_simulator.h"
 #include "daemon/logging.h"
+#include "daemon/node_command.h"
 #include "daemon/service.h"
 #include "storage/backup.h"
 
@@ -24,7 +28,7 @@ constexpr const char* kDefaultConfig = "/etc/ampledger/ampledger.toml";
 // Runs `service` until SIGTERM or SIGINT (or until it stops by itself), then flushes and
 // joins. The signals are blocked in every thread and taken here with sigtimedwait, so no
 // handler runs in an arbitrary thread.
-int RunUntilSignalled(Service& service) {
+int RunUntilSignalled(Service& service, const std::function<Status()>& after_start = {}) {
   sigset_t signals;
   sigemptyset(&signals);
   sigaddset(&signals, SIGTERM);
@@ -34,6 +38,14 @@ int RunUntilSignalled(Service& service) {
   if (Status started = service.Start(); !started.ok()) {
     spdlog::error("cannot start: {}", started.ToString());
     return 1;
+  }
+  if (after_start) {
+    if (Status started = after_start(); !started.ok()) {
+      spdlog::error("cannot start: {}", started.ToString());
+      service.RequestStop();
+      (void)service.Wait();
+      return 1;
+    }
   }
   std::atomic<bool> done{false};
   std::thread signal_waiter([&] {
@@ -103,8 +115,11 @@ int Demo(const DemoOptions& options) {
     std::cerr << "ampledger: demo: " << config.status().ToString() << "\n";
     return 1;
   }
-  Service service(std::move(config).value());
-  return RunUntilSignalled(service);
+  Service service(*config);
+  DemoSimulator simulator(*config, options.udp_listen, DemoSimulatorOptions{});
+  int exit_code = RunUntilSignalled(service, [&] { return simulator.Start(); });
+  simulator.Stop();
+  return exit_code;
 }
 
 }  // namespace
@@ -136,9 +151,59 @@ int main(int argc, char** argv) {
   demo->add_option("--udp", demo_options.udp_listen, "UDP listen address")->capture_default_str();
   demo->add_option("--keep", demo_options.keep_dir, "keep the demo database in this folder");
 
+  CtPlanOptions plan;
+  auto* ct_plan = app.add_subcommand("ct-plan", "choose a CT burden resistor for a node's ADC");
+  ct_plan->add_option("--turns", plan.input.turns, "CT secondary turns (or the rated currents)");
+  ct_plan->add_option("--rated-primary-amps", plan.input.rated_primary_amps,
+                      "CT rated primary, A RMS");
+  ct_plan->add_option("--rated-secondary-amps", plan.input.rated_secondary_amps,
+                      "CT rated secondary output, A RMS (e.g. 0.05)");
+  ct_plan->add_option("--max-primary-amps", plan.input.max_primary_amps,
+                      "largest primary current to read, A RMS")->required();
+  ct_plan->add_option("--adc-bits", plan.input.adc_bits, "ADC resolution")->capture_default_str();
+  ct_plan->add_option("--adc-reference-volts", plan.input.adc_reference_volts, "ADC reference")
+      ->capture_default_str();
+  ct_plan->add_option("--bias-volts", plan.input.bias_volts,
+                      "ADC input bias (default: half the reference)");
+  ct_plan->add_option("--nominal-volts", plan.input.nominal_volts, "site's nominal voltage")
+      ->capture_default_str();
+  ct_plan->add_option("--series", plan.series_name, "E12, E24 or E96 (IEC 60063)")
+      ->capture_default_str();
+  ct_plan->add_option("--bias-bottom-ohms", plan.input.bias_bottom_ohms,
+                      "bias divider's lower resistor")->capture_default_str();
+
+  NodeAddOptions node_add_options;
+  auto* node = app.add_subcommand("node", "manage sensor nodes");
+  node->require_subcommand(1);
+  auto* node_add = node->add_subcommand("add", "make a node key file, print its config snippet");
+  node_add->add_option("--config,-c", node_add_options.config_path,
+                       "configuration file; the key goes beside it")->required();
+  node_add->add_option("--id", node_add_options.node_id, "node id")->required();
+  node_add->add_option("--channels", node_add_options.channels, "CT inputs on the node")
+      ->capture_default_str();
+  node_add->add_option("--owner", node_add_options.owner, "user to own the key file (the daemon)");
+
+  CalibrateOptions calibrate_options;
+  auto* calibrate = app.add_subcommand("calibrate", "compute a channel's gain from a reference");
+  calibrate->add_option("--measured-amps", calibrate_options.measured_amps,
+                        "what ampledger showed")->required();
+  calibrate->add_option("--current-gain", calibrate_options.current_gain,
+                        "the channel's gain meanwhile")->capture_default_str();
+  calibrate->add_option("--reference-amps", calibrate_options.reference_amps,
+                        "a reference meter's reading");
+  calibrate->add_option("--load-watts", calibrate_options.load_watts,
+                        "known resistive load: rated W");
+  calibrate->add_option("--load-rated-volts", calibrate_options.load_rated_volts,
+                        "... at this voltage");
+  calibrate->add_option("--line-volts", calibrate_options.line_volts,
+                        "line voltage measured during the test");
+
   CLI11_PARSE(app, argc, argv);
   if (*serve) return Serve(config_path, log_level);
   if (*check) return Check(config_path);
   if (*backup) return Backup(config_path, backup_to);
+  if (*ct_plan) return RunCtPlan(plan, std::cout, std::cerr);
+  if (*node_add) return RunNodeAdd(node_add_options, std::cout, std::cerr);
+  if (*calibrate) return RunCalibrate(calibrate_options, std::cout, std::cerr);
   return Demo(demo_options);  // `ampledger demo`, and `ampledger` alone
 }

@@ -26,6 +26,11 @@ struct NodeClientOptions {
   PackEncoding encoding;           // relative_to must be unset: the client sends absolute times
   int resend_after_ms = 1000;      // an unacknowledged pack is sent again after this long
   std::size_t max_unacked = 512;   // Send() refuses (Unavailable) beyond this many
+  // Send() also refuses a seq this far or farther past the oldest unacknowledged one of the
+  // same boot: the daemon's anti-replay window (ReplayWindow::kWindowSize, 1024) recognises
+  // resends only that far behind its newest, so a node that ran further ahead while an
+  // acknowledgement was lost could never have that pack accepted again.
+  std::uint32_t max_seq_span = 1000;
 };
 
 class NodeClient {

@@ -1,0 +1,84 @@
+// The demo end to end: the example site's config, its simulated nodes over real UDP, the
+// daemon storing and rolling up, and the API serving what arrived.
+#include "daemon/demo_simulator.h"
+
+#include <doctest/doctest.h>
+#include <httplib.h>
+#include <sqlite3.h>
+
+#include <nlohmann/json.hpp>
+#include <thread>
+
+#include "daemon/demo.h"
+#include "daemon/service.h"
+#include "test_util.h"
+
+namespace ampledger {
+namespace {
+
+std::int64_t QueryInt(const std::string& path, const std::string& sql) {
+  sqlite3* db = nullptr;
+  REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
+  sqlite3_stmt* statement = nullptr;
+  REQUIRE(sqlite3_prepare_v2(db, sql.c_str(), -1, &statement, nullptr) == SQLITE_OK);
+  REQUIRE(sqlite3_step(statement) == SQLITE_ROW);
+  std::int64_t value = sqlite3_column_int64(statement, 0);
+  sqlite3_finalize(statement);
+  sqlite3_close(db);
+  return value;
+}
+
+TEST_SUITE("daemon") {
+  TEST_CASE("the demo's simulated nodes backfill history and report live through the daemon") {
+    testing::TempDir dir;
+    DemoOptions demo;
+    demo.keep_dir = dir.path().string();
+    demo.http_listen = "127.0.0.1:0";
+    demo.udp_listen = "127.0.0.1:0";
+    Result<Config> config = PrepareDemo(demo);
+    REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+    Service service(*config);
+    REQUIRE(service.Start().ok());
+
+    DemoSimulatorOptions options;
+    options.history_days = 1;
+    options.live_interval = std::chrono::milliseconds(200);
+    DemoSimulator simulator(*config, "127.0.0.1:" + std::to_string(service.udp_port()), options);
+    REQUIRE(simulator.Start().ok());
+
+    // One day of 60-second intervals from each of the three nodes, then live reports.
+    const std::int64_t history = 3 * 1440;
+    httplib::Client api("127.0.0.1", service.http_port());
+    nlohmann::json nodes;
+    for (int i = 0; i < 300; ++i) {
+      auto answer = api.Get("/v1/nodes");
+      REQUIRE(answer);
+      nodes = nlohmann::json::parse(answer->body);
+      if (nodes["datagrams"]["stored"].get<std::int64_t>() > history + 6) break;
+      std::this_thread::sleep_for(std::chrono::milliseconds(100));
+    }
+    CHECK(nodes["datagrams"]["stored"].get<std::int64_t>() > history + 6);
+    CHECK(nodes["datagrams"]["refused"]["bad_tag"] == 0);
+
+    auto live = api.Get("/v1/live");
+    REQUIRE(live);
+    nlohmann::json circuits = nlohmann::json::parse(live->body)["circuits"];
+    CHECK(circuits.size() == config->circuits.size());
+    for (const auto& circuit : circuits) {
+      CAPTURE(circuit.dump());
+      CHECK_FALSE(circuit["reading_end"].is_null());
+    }
+
+    simulator.Stop();
+    service.RequestStop();
+    REQUIRE(service.Wait().ok());
+    const std::string db = config->storage.path;
+    // Every channel wired to a circuit has rolled-up energy for the day.
+    CHECK(QueryInt(db, "SELECT count(DISTINCT circuit) FROM rollup") ==
+          static_cast<std::int64_t>(config->circuits.size()));
+    CHECK(QueryInt(db, "SELECT count(*) FROM reading") >= history * 5);
+  }
+}
+
+}  // namespace
+}  // namespace ampledger
