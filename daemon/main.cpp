@@ -17,6 +17,7 @@
 #include "daemon/demo_simulator.h"
 #include "daemon/logging.h"
 #include "daemon/node_command.h"
+#include "daemon/send_command.h"
 #include "daemon/service.h"
 #include "storage/backup.h"
 
@@ -151,6 +152,23 @@ int main(int argc, char** argv) {
   demo->add_option("--udp", demo_options.udp_listen, "UDP listen address")->capture_default_str();
   demo->add_option("--keep", demo_options.keep_dir, "keep the demo database in this folder");
 
+  SendOptions send_options;
+  auto* send = app.add_subcommand("send", "send one pack to a daemon as a node would, await its ack");
+  send->add_option("--to", send_options.to, "daemon UDP address")->capture_default_str();
+  send->add_option("--config,-c", send_options.config_path, "take the node's key from this config");
+  send->add_option("--node", send_options.node, "node id")->required();
+  send->add_option("--key", send_options.key_hex, "node key, 64 hex digits (instead of --config)");
+  send->add_option("--format", send_options.format, "cose, cbor or json")->capture_default_str();
+  send->add_option("--alg", send_options.alg, "COSE MAC: 256/64 or 256/256")->capture_default_str();
+  send->add_option("--channel", send_options.channel, "channel id")->capture_default_str();
+  send->add_option("--amps", send_options.amps, "RMS current, A")->required();
+  send->add_option("--volts", send_options.volts, "RMS voltage, V");
+  send->add_option("--watts", send_options.watts, "mean real power, W");
+  send->add_option("--register-joules", send_options.register_joules, "energy register, J");
+  send->add_option("--boot", send_options.boot, "boot counter")->capture_default_str();
+  send->add_option("--seq", send_options.seq, "datagram counter")->capture_default_str();
+  send->add_option("--interval", send_options.interval_seconds, "interval, s")->capture_default_str();
+
   CtPlanOptions plan;
   auto* ct_plan = app.add_subcommand("ct-plan", "choose a CT burden resistor for a node's ADC");
   ct_plan->add_option("--turns", plan.input.turns, "CT secondary turns (or the rated currents)");
@@ -202,6 +220,7 @@ int main(int argc, char** argv) {
   if (*serve) return Serve(config_path, log_level);
   if (*check) return Check(config_path);
   if (*backup) return Backup(config_path, backup_to);
+  if (*send) return RunSend(send_options, std::cout, std::cerr);
   if (*ct_plan) return RunCtPlan(plan, std::cout, std::cerr);
   if (*node_add) return RunNodeAdd(node_add_options, std::cout, std::cerr);
   if (*calibrate) return RunCalibrate(calibrate_options, std::cout, std::cerr);
