@@ -50,7 +50,8 @@ Result<Config> PrepareDemo(const DemoOptions& options) {
   config->ingest.resend_horizon_seconds = 30 * 86400;
   config->http.listen = options.http_listen;
   spdlog::info("demo site \"{}\": config and database in {}", config->site.name, *dir);
-  spdlog::info("open http://{}/ in a browser; Ctrl-C stops the demo", options.http_listen);
+  spdlog::info("try: curl http://{}/v1/live (and /v1/site, /v1/nodes); Ctrl-C stops the demo",
+               options.http_listen);
   return config;
 }
 
