@@ -3,72 +3,18 @@
 // A rule names the statutory date (a fixed date, the nth or last weekday of a month, a weekday
 // on or before a date, a day relative to Easter, or an explicit list) and how a date that falls
 // on a weekend is observed. HolidayCalendar is immutable after Create(); any thread may call
-// it. Pure: no I/O; the TOML tariff parser in config/ fills HolidayRule.
+// it. Pure: no I/O; the TOML tariff parser in config/ fills HolidayRule (config/tariff_config.h).
 #pragma once
 
 #include <string>
-#include <variant>
 #include <vector>
 
 #include <date/date.h>
 
 #include "config/status.h"
+#include "config/tariff_config.h"  // the rule types
 
 namespace ampledger {
-
-// January 1, July 4.
-struct FixedDate {
-  date::month_day month_day;
-};
-
-// The `n`th (1..5) `weekday` of `month`: the third Monday in January. In a year without a
-// fifth such weekday the rule yields no date.
-struct NthWeekday {
-  date::month month;
-  date::weekday weekday;
-  unsigned n = 1;
-};
-
-// The last `weekday` of `month`: the last Monday in May.
-struct LastWeekday {
-  date::month month;
-  date::weekday weekday;
-};
-
-// The last `weekday` on or before `month_day`: the Monday on or before May 24.
-struct WeekdayOnOrBefore {
-  date::month_day month_day;
-  date::weekday weekday;
-};
-
-// Western (Gregorian) Easter Sunday plus `offset_days`: Good Friday is -2, Easter Monday +1.
-struct EasterRelative {
-  int offset_days = 0;
-};
-
-// Dates given one by one (a one-off closure, a utility's published list).
-struct ExplicitDates {
-  std::vector<date::year_month_day> dates;
-};
-
-using HolidayDateRule =
-    std::variant<FixedDate, NthWeekday, LastWeekday, WeekdayOnOrBefore, EasterRelative,
-                 ExplicitDates>;
-
-// How a holiday whose date falls on a Saturday or Sunday is observed.
-enum class ObservedRule {
-  kSameDay,        // on its date, weekend or not
-  kFridayOrMonday, // Saturday -> the Friday before, Sunday -> the Monday after
-  kNextMonday,     // Saturday or Sunday -> the Monday after, or the first weekday after it
-                   // that no other holiday of the calendar occupies (Christmas on a
-                   // Saturday -> Monday 27th, Boxing Day on the Sunday -> Tuesday 28th)
-};
-
-struct HolidayRule {
-  std::string name;
-  HolidayDateRule date;
-  ObservedRule observed = ObservedRule::kSameDay;
-};
 
 struct ObservedHoliday {
   std::string name;

@@ -35,56 +35,12 @@
 #include <date/date.h>
 
 #include "config/status.h"
+#include "config/tariff_config.h"
 #include "daemon/metering/holiday.h"
 #include "daemon/metering/local_time.h"
 #include "daemon/metering/reading.h"
 
 namespace ampledger {
-
-enum class DayKind : std::uint8_t { kWeekday = 0, kWeekend = 1, kHoliday = 2 };
-
-// A set of day kinds, one bit each.
-constexpr unsigned DayKindBit(DayKind kind) { return 1u << static_cast<unsigned>(kind); }
-constexpr unsigned kEveryDayKind = 0b111;
-
-// A set of months, bit (m - 1) for month m.
-constexpr unsigned MonthBit(date::month month) { return 1u << (static_cast<unsigned>(month) - 1); }
-constexpr unsigned kEveryMonth = 0xfff;
-
-// A rate period in force during [start_minute, end_minute) of local time of day on the given
-// day kinds and months. Bounds are multiples of 15 in 0..1440; end_minute <= start_minute
-// means the window crosses midnight ([start, 24:00) and [00:00, end)); equal bounds are
-// refused (write 0 and 1440 for the whole day).
-struct RateWindow {
-  std::string period;
-  int start_minute = 0;
-  int end_minute = 1440;
-  unsigned day_kinds = kEveryDayKind;  // DayKindBit()s
-  unsigned months = kEveryMonth;       // MonthBit()s; a window that exists only in some months
-};
-
-struct PeriodPrice {
-  std::string period;   // "on-peak", "off-peak", ...
-  double per_kwh = 0;   // in the site's currency; negative for a credit
-};
-
-struct Season {
-  std::string name;
-  date::month_day first_day;  // inclusive
-  date::month_day last_day;   // inclusive; before first_day: the season spans the year end
-  std::vector<PeriodPrice> prices;  // every period the windows and the default name
-  std::vector<RateWindow> windows;  // first match wins
-  std::string default_period;       // for any time no window holds
-  std::optional<HolidayCalendar> holidays;  // this season's own holiday list, if it differs
-};
-
-// What a tariff file says about energy rates; the tariff parser fills this.
-struct TariffRates {
-  std::string name;
-  std::vector<Season> seasons;
-  HolidayCalendar holidays;
-  std::vector<date::weekday> weekend_days = {date::Saturday, date::Sunday};
-};
 
 // The season and period in force at one local moment, as indexes into the Tariff's seasons
 // and that season's prices.
@@ -116,13 +72,25 @@ class Tariff {
   //   "02-29 is in no season"
   static Result<Tariff> Create(TariffRates rates);
 
-  const TariffRates& rates() const { return rates_; }
+  // Same for a whole tariff file: the rates, then tiers, adders, fixed and demand charges,
+  // adjustments, export and rounding (each price to at most 6 decimal places), e.g.
+  //   "tiers of season \"summer\": block 2: size must be above 0 (0 only in the last block)"
+  static Result<Tariff> Create(TariffConfig config);
+
+  const TariffRates& rates() const { return config_.rates; }
+  const TariffConfig& config() const { return config_; }
 
   // The day kind of local date `day` in season `season`.
   DayKind KindOf(date::year_month_day day, int season) const;
 
+  // The season of a local date.
+  int SeasonOf(date::month_day day) const;
+
   // The season and period at local `day` and `minute_of_day` (0..1439).
   RateSlot At(date::year_month_day day, int minute_of_day) const;
+
+  // The season and period of the 15-minute bucket starting at `start_ms` in `local`'s zone.
+  RateSlot AtInstant(const LocalTime& local, UnixMs start_ms) const;
 
   // Sums `buckets` by season and period, each bucket priced at its start in `local`'s zone.
   // Lines come in season order, then in the order of the season's prices; periods with no
@@ -131,12 +99,13 @@ class Tariff {
                                                 std::span<const BucketEnergy> buckets) const;
 
  private:
-  explicit Tariff(TariffRates rates) : rates_(std::move(rates)) {}
+  explicit Tariff(TariffConfig config) : config_(std::move(config)) {}
 
-  int SeasonOf(date::month_day day) const;
   RateSlot PeriodOf(date::year_month_day day, int season, DayKind kind, int minute_of_day) const;
 
-  TariffRates rates_;
+  TariffConfig config_;
+  HolidayCalendar holidays_;
+  std::vector<std::optional<HolidayCalendar>> season_holidays_;
   // window_period_[s][w]: index in seasons[s].prices of window w's period; default_period_[s].
   std::vector<std::vector<int>> window_period_;
   std::vector<int> default_period_;

@@ -81,7 +81,7 @@ TEST_SUITE("metering") {
     Result<HolidayCalendar> holidays =
         HolidayCalendar::Create({{"Labour Day", NthWeekday{date::September, date::Monday, 1}}});
     REQUIRE(holidays.ok());
-    rates.holidays = *holidays;
+    rates.holidays = holidays->rules();
     Tariff tariff = Make(rates);
     CHECK(tariff.KindOf(2026_y / 9 / 7, 0) == DayKind::kHoliday);
     CHECK(PeriodAt(tariff, 2026_y / 9 / 7, 18 * 60) == "base");
@@ -102,8 +102,8 @@ TEST_SUITE("metering") {
         HolidayCalendar::Create({{"Harvest", FixedDate{date::October / 2}}});
     REQUIRE(tariff_list.ok());
     REQUIRE(second_half_list.ok());
-    rates.holidays = *tariff_list;
-    rates.seasons[1].holidays = *second_half_list;
+    rates.holidays = tariff_list->rules();
+    rates.seasons[1].holidays = second_half_list->rules();
     Tariff tariff = Make(rates);
     CHECK(tariff.KindOf(2026_y / 6 / 24, 0) == DayKind::kHoliday);
     CHECK(tariff.KindOf(2026_y / 10 / 1, 1) == DayKind::kWeekday);

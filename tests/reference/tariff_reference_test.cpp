@@ -92,7 +92,7 @@ Tariff Ontario() {
                  {"on-peak", 11 * 60, 17 * 60, kWeekdays},
                  {"mid-peak", 17 * 60, 19 * 60, kWeekdays}},
                 "off-peak", std::nullopt};
-  return Make({"ontario-rpp-tou", {winter, summer}, *holidays});
+  return Make({"ontario-rpp-tou", {winter, summer}, holidays->rules()});
 }
 
 TEST_SUITE("reference") {
@@ -200,7 +200,7 @@ TEST_SUITE("reference") {
                             "shoulder", std::nullopt},
                            {"other", date::October / 1, date::May / 31, prices,
                             {{"off-peak", 22 * 60, 8 * 60}}, "shoulder", std::nullopt}},
-                          *holidays});
+                          holidays->rules()});
     auto period = [&](date::year_month_day day, int hour) {
       RateSlot slot = tariff.At(day, hour * 60);
       return tariff.rates().seasons[slot.season].prices[slot.period].period;
