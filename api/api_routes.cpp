@@ -6,6 +6,7 @@
 #include <filesystem>
 #include <nlohmann/json.hpp>
 
+#include "api/metrics.h"
 #include "storage/database.h"
 #include "storage/queries.h"
 
@@ -107,13 +108,54 @@ Result<HttpResponse> Nodes(const ApiContext& context) {
                                 .dump());
 }
 
-// Live values per circuit: the newest reading of each of its channels in the last hour.
-Result<HttpResponse> Live(const ApiContext& context) {
+// The newest reading of every channel in the last hour.
+Result<std::vector<ChannelReading>> LatestReadings(const ApiContext& context, UnixMs now) {
   Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
   if (!db.ok()) return db.status();
+  return ReadLatestReadings(**db, *context.series, now - 3600 * kMsPerSecond);
+}
+
+std::uint64_t FileBytes(const std::string& path) {
+  std::error_code error;
+  std::uintmax_t size = std::filesystem::file_size(path, error);
+  return error ? 0 : size;
+}
+
+Result<HttpResponse> Metrics(const ApiContext& context) {
   const UnixMs now = NowMs();
-  Result<std::vector<ChannelReading>> latest =
-      ReadLatestReadings(**db, *context.series, now - 3600 * kMsPerSecond);
+  Result<std::vector<ChannelReading>> latest = LatestReadings(context, now);
+  if (!latest.ok()) return latest.status();
+  const Config& config = *context.config;
+  std::vector<CircuitPower> live(config.circuits.size());
+  std::vector<bool> seen(config.circuits.size(), false);
+  for (size_t i = 0; i < config.circuits.size(); ++i) {
+    live[i] = {config.circuits[i].id, DirectionName(config.circuits[i].direction), 0};
+  }
+  for (const ChannelReading& reading : *latest) {
+    int circuit = context.series->circuit_of_channel[reading.channel];
+    if (circuit < 0) continue;
+    live[circuit].watts += reading.real_watts;
+    seen[circuit] = true;
+  }
+  MetricsSnapshot snapshot;
+  snapshot.ingest = context.ingest;
+  snapshot.kernel_drops = context.receiver->kernel_drops();
+  snapshot.writer_healthy = context.writer->Health().ok();
+  snapshot.database_bytes =
+      FileBytes(context.database_path) + FileBytes(context.database_path + "-wal");
+  for (size_t i = 0; i < live.size(); ++i) {
+    if (seen[i]) snapshot.live.push_back(live[i]);
+  }
+  HttpResponse response;
+  response.content_type = kOpenMetricsContentType;
+  response.body = FormatOpenMetrics(snapshot);
+  return response;
+}
+
+// Live values per circuit: the newest reading of each of its channels in the last hour.
+Result<HttpResponse> Live(const ApiContext& context) {
+  const UnixMs now = NowMs();
+  Result<std::vector<ChannelReading>> latest = LatestReadings(context, now);
   if (!latest.ok()) return latest.status();
   const Config& config = *context.config;
   std::vector<json> circuits(config.circuits.size());
@@ -145,6 +187,7 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
   server.Route("GET", "/v1/site", [context](const HttpRequest&) { return Site(context); });
   server.Route("GET", "/v1/nodes", [context](const HttpRequest&) { return Nodes(context); });
   server.Route("GET", "/v1/live", [context](const HttpRequest&) { return Live(context); });
+  server.Route("GET", "/metrics", [context](const HttpRequest&) { return Metrics(context); });
 }
 
 }  // namespace ampledger

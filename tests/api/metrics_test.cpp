@@ -1,0 +1,38 @@
+#include "api/metrics.h"
+
+#include <doctest/doctest.h>
+
+namespace ampledger {
+namespace {
+
+TEST_SUITE("api") {
+  TEST_CASE("FormatOpenMetrics follows the OpenMetrics 1.0 text rules") {
+    IngestStats stats({"garage"});
+    stats.received = 12;
+    stats.refused[static_cast<int>(RefusalReason::kBadTag)] = 3;
+    MetricsSnapshot snapshot;
+    snapshot.ingest = &stats;
+    snapshot.database_bytes = 4096;
+    snapshot.live = {{"dryer \"new\"", "consumption", 4800}, {"solar", "export", 1234.5}};
+    const std::string text = FormatOpenMetrics(snapshot);
+
+    // tests/reference/data/http/NOTES.md (OpenMetrics 1.0): ends with "# EOF"; counters are
+    // sampled as <family>_total; TYPE before UNIT before HELP; label values escape '"'.
+    CHECK(text.size() > 6);
+    CHECK(text.substr(text.size() - 6) == "# EOF\n");
+    CHECK(text.find("# TYPE ampledger_datagrams_received counter\n"
+                    "# HELP ampledger_datagrams_received UDP datagrams read from the socket.\n"
+                    "ampledger_datagrams_received_total 12\n") != std::string::npos);
+    CHECK(text.find("ampledger_datagrams_refused_total{reason=\"bad_tag\"} 3\n") !=
+          std::string::npos);
+    CHECK(text.find("# TYPE ampledger_database_bytes gauge\n# UNIT ampledger_database_bytes "
+                    "bytes\n") != std::string::npos);
+    CHECK(text.find("ampledger_circuit_power_watts{circuit=\"dryer \\\"new\\\"\","
+                    "direction=\"consumption\"} 4800.0\n") != std::string::npos);
+    CHECK(text.find("{circuit=\"solar\",direction=\"export\"} 1234.5\n") != std::string::npos);
+    CHECK(text.find('\r') == std::string::npos);
+  }
+}
+
+}  // namespace
+}  // namespace ampledger
