@@ -1,0 +1,96 @@
+#!/usr/bin/env bash
+# tests/deploy/package_test.sh BUILD_DIR
+# Builds the .deb with CPack from BUILD_DIR, inspects it (dpkg-deb -I / -c), then installs,
+# upgrades (reinstalls over itself), removes and purges it with dpkg in a throwaway root
+# (dpkg --root with --force-script-chrootless: the maintainer scripts run on this machine with
+# $DPKG_ROOT set, and touch nothing outside that root). systemd is not running there, so the
+# scripts' systemctl calls are skipped; what is checked is the files, the conffile handling,
+# the system user the postinst creates, and that the installed program runs.
+set -euo pipefail
+
+build_dir=$(cd "$1" && pwd)
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+fail() { echo "FAIL: $*"; exit 1; }
+
+# dpkg must own files as root inside the throwaway root; fakeroot stands in when not root.
+as_root=()
+if [ "$(id -u)" -ne 0 ]; then
+  command -v fakeroot > /dev/null || { echo "SKIP: not root and no fakeroot"; exit 77; }
+  as_root=(fakeroot)
+fi
+
+echo "== cpack -G DEB"
+(cd "$build_dir" && cpack -G DEB -B "$work/out" > "$work/cpack.log") \
+  || { cat "$work/cpack.log"; fail "cpack"; }
+debs=("$work"/out/ampledger_*.deb)
+[ -f "${debs[0]}" ] || fail "no .deb in $work/out"
+deb=${debs[0]}
+echo "built $(basename "$deb")"
+
+echo "== dpkg-deb -I"
+dpkg-deb -I "$deb" > "$work/info"
+grep -q '^ Package: ampledger$' "$work/info" || fail "package name"
+grep -q '^ Depends: .*libsqlite3-0' "$work/info" || fail "shlibs dependencies"
+grep -q '^ Depends: .*systemd' "$work/info" || fail "systemd dependency"
+for member in conffiles postinst prerm postrm; do
+  grep -qE "^ +[0-9]+ bytes, +[0-9]+ lines +\*? *$member" "$work/info" || fail "control: $member"
+done
+[ "$(dpkg-deb -f "$deb" Version)" != "" ] || fail "version"
+dpkg-deb --ctrl-tarfile "$deb" | tar -xO ./conffiles > "$work/conffiles"
+grep -qx /etc/ampledger/ampledger.toml "$work/conffiles" || fail "conffile not marked"
+
+echo "== dpkg-deb -c"
+dpkg-deb -c "$deb" > "$work/contents"
+for path in ./usr/bin/ampledger ./etc/ampledger/ampledger.toml \
+    ./usr/lib/systemd/system/ampledger.service ./usr/lib/systemd/system/ampledger-backup.service \
+    ./usr/lib/systemd/system/ampledger-backup.timer ./usr/lib/sysusers.d/ampledger.conf \
+    ./usr/share/doc/ampledger/OPERATIONS.md ./usr/share/doc/ampledger/CONFIG.md; do
+  grep -q " $path\$" "$work/contents" || fail "missing $path"
+done
+if awk '{print $2}' "$work/contents" | grep -qv '^root/root$'; then fail "files not owned by root"; fi
+grep -E ' \./usr/bin/ampledger$' "$work/contents" | grep -q '^-rwxr-xr-x' || fail "binary mode"
+
+echo "== dpkg -i into a throwaway root"
+root="$work/root"
+mkdir -p "$root/var/lib/dpkg/info" "$root/var/lib/dpkg/updates" "$root/var/log" \
+  "$root/etc" "$root/usr/lib/sysusers.d"
+touch "$root/var/lib/dpkg/status" "$root/var/lib/dpkg/available"
+dpkg_root() {
+  "${as_root[@]}" dpkg --root="$root" --force-script-chrootless --force-depends \
+    --force-confold --log=/dev/null "$@"
+}
+dpkg_root -i "$deb" > "$work/dpkg.log" 2>&1 || { cat "$work/dpkg.log"; fail "dpkg -i"; }
+dpkg-query --admindir="$root/var/lib/dpkg" -W -f='${Status}\n' ampledger | grep -qx 'install ok installed' \
+  || fail "not installed"
+"$root/usr/bin/ampledger" --version | grep -q . || fail "installed binary does not run"
+grep -q '^ampledger:' "$root/etc/passwd" || fail "postinst did not create the ampledger user"
+
+echo "== the guide's first steps on the installed config"
+config="$root/etc/ampledger/ampledger.toml"
+"$root/usr/bin/ampledger" node add --config "$config" --id board-test --channels 2 > "$work/node"
+[ "$(stat -c %a "$root/etc/ampledger/board-test.key")" = 600 ] || fail "key file mode"
+{
+  sed -n '/^\[\[node\]\]/,$p' "$work/node"
+  printf '\n[[circuit]]\nid = "kitchen"\nchannels = ["board-test/ct1"]\n'
+} >> "$config"
+"$root/usr/bin/ampledger" check --config "$config" > "$work/check" || { cat "$work/check"; fail "check"; }
+
+echo "== upgrade: install the package again over itself"
+dpkg_root -i "$deb" > "$work/dpkg.log" 2>&1 || { cat "$work/dpkg.log"; fail "dpkg -i (upgrade)"; }
+grep -q 'board-test' "$config" || fail "upgrade replaced the edited conffile"
+
+echo "== remove: program gone, config and keys kept"
+dpkg_root -r ampledger > "$work/dpkg.log" 2>&1 || { cat "$work/dpkg.log"; fail "dpkg -r"; }
+[ ! -e "$root/usr/bin/ampledger" ] || fail "binary left after remove"
+[ ! -e "$root/usr/lib/systemd/system/ampledger.service" ] || fail "unit left after remove"
+[ -f "$config" ] && [ -f "$root/etc/ampledger/board-test.key" ] || fail "remove deleted the config"
+
+echo "== purge: config and keys gone"
+dpkg_root -P ampledger > "$work/dpkg.log" 2>&1 || { cat "$work/dpkg.log"; fail "dpkg -P"; }
+[ ! -e "$config" ] && [ ! -e "$root/etc/ampledger/board-test.key" ] || fail "purge left the config"
+if dpkg-query --admindir="$root/var/lib/dpkg" -W ampledger > /dev/null 2>&1; then
+  dpkg-query --admindir="$root/var/lib/dpkg" -W -f='${Status}\n' ampledger | grep -q 'not-installed' \
+    || fail "still known to dpkg after purge"
+fi
+echo "OK: built, inspected, installed, upgraded, removed and purged $(basename "$deb")"
