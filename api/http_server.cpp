@@ -159,9 +159,10 @@ class HttpServer::Impl {
       return Status::InvalidArgument("http: cannot load the TLS certificate or key");
     }
     Install();
-    std::string host;
-    int port = 0;
-    if (Status parsed = SplitListen(config_.listen, &host, &port); !parsed.ok()) return parsed;
+    Result<ListenAddress> listen = ParseListenAddress(config_.listen);
+    if (!listen.ok()) return listen.status().WithContext("http.listen");
+    const std::string& host = listen->host;
+    const int port = listen->port;
     if (port == 0) {
       int bound = server_->bind_to_any_port(host);
       if (bound <= 0) return Status::IOError("http: cannot bind " + config_.listen);
@@ -179,23 +180,6 @@ class HttpServer::Impl {
   void Stop() {
     if (server_) server_->stop();
     if (thread_.joinable()) thread_.join();
-  }
-
-  static Status SplitListen(const std::string& listen, std::string* host, int* port) {
-    size_t colon = listen.rfind(':');
-    if (colon == std::string::npos) {
-      return Status::InvalidArgument("http.listen: \"" + listen + "\" is not host:port");
-    }
-    *host = listen.substr(0, colon);
-    if (host->size() >= 2 && host->front() == '[' && host->back() == ']') {
-      *host = host->substr(1, host->size() - 2);
-    }
-    try {
-      *port = std::stoi(listen.substr(colon + 1));
-    } catch (const std::exception&) {
-      return Status::InvalidArgument("http.listen: \"" + listen + "\" has no port number");
-    }
-    return Status::Ok();
   }
 
   HttpConfig config_;

@@ -4,6 +4,7 @@
 
 #include <cmath>
 
+#include "config/wall_clock.h"
 #include "daemon/demo_loads.h"
 #include "daemon/metering/local_time.h"
 
@@ -13,12 +14,6 @@ namespace {
 
 constexpr double kLegVolts = 120.0;  // the demo site's split-phase leg voltage
 constexpr UnixMs kBackfillIntervalMs = 60 * kMsPerSecond;
-
-UnixMs NowMs() {
-  return std::chrono::duration_cast<std::chrono::milliseconds>(
-             std::chrono::system_clock::now().time_since_epoch())
-      .count();
-}
 
 // What a node of each kind measures: the panels' nodes differ on purpose, so the demo shows
 // measured, derived and estimated values side by side.
@@ -126,7 +121,7 @@ NodePack MakePack(const Config& config, const LocalTime& local, NodeKind kind,
 void DemoSimulator::Backfill() {
   Result<LocalTime> local = LocalTime::ForZone(config_.site.time_zone);
   if (!local.ok()) return;
-  const UnixMs now = NowMs();
+  const UnixMs now = WallClockMs();
   const UnixMs start = (now - options_.history_days * 86400 * kMsPerSecond) /
                        kBackfillIntervalMs * kBackfillIntervalMs;
   spdlog::info("demo: sending {} days of history from {} simulated nodes", options_.history_days,
@@ -186,7 +181,7 @@ void DemoSimulator::Live() {
     const Clock::time_point now = Clock::now();
     if (now >= next_report) {
       next_report += options_.live_interval;
-      const UnixMs end = NowMs();
+      const UnixMs end = WallClockMs();
       const auto elapsed = now - live_start;
       for (auto& node : nodes_) {
         if (!rebooted && node->config->id == "lower-panel" && elapsed >= options_.reboot_after) {

@@ -4,18 +4,13 @@
 
 #include <chrono>
 
+#include "config/wall_clock.h"
 #include "daemon/ingest/ack.h"
 #include "daemon/metering/derive.h"
 
 namespace ampledger {
 
 namespace {
-
-UnixMs NowMs() {
-  return std::chrono::duration_cast<std::chrono::milliseconds>(
-             std::chrono::system_clock::now().time_since_epoch())
-      .count();
-}
 
 // The circuit a spare channel (wired to no circuit) is derived for: the site's nominal
 // voltage, consumption, unity power factor. Its readings are stored raw, never rolled up.
@@ -64,7 +59,7 @@ void IngestLoop::Run(const std::atomic<bool>& stopping) {
   using Clock = std::chrono::steady_clock;
   auto interval = notifier_->watchdog_interval();
   Clock::time_point next_ping = Clock::now();
-  auto handle = [this](const ReceivedDatagram& datagram) { Handle(datagram, NowMs()); };
+  auto handle = [this](const ReceivedDatagram& datagram) { Handle(datagram, WallClockMs()); };
   while (!stopping.load()) {
     Result<int> received = receiver_->Receive(100, handle);
     if (!received.ok()) {

@@ -4,6 +4,7 @@
 #include <ostream>
 
 #include "config/config.h"
+#include "config/wall_clock.h"
 #include "daemon/ingest/node_client.h"
 
 namespace ampledger {
@@ -78,9 +79,7 @@ int RunSend(const SendOptions& options, std::ostream& out, std::ostream& err) {
   }
   ChannelSample sample;
   sample.channel = options.channel;
-  sample.end_ms = std::chrono::duration_cast<std::chrono::milliseconds>(
-                      std::chrono::system_clock::now().time_since_epoch())
-                      .count();
+  sample.end_ms = WallClockMs();
   sample.duration_ms = static_cast<std::int32_t>(options.interval_seconds * 1000);
   sample.amps = options.amps;
   sample.volts = options.volts;

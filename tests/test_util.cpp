@@ -1,5 +1,8 @@
 #include "test_util.h"
 
+#include <doctest/doctest.h>
+#include <sqlite3.h>
+
 #include <fstream>
 #include <random>
 #include <sstream>
@@ -43,6 +46,35 @@ void WriteFile(const std::filesystem::path& path, const std::string& text) {
   std::ofstream out(path, std::ios::binary);
   out << text;
   if (!out) throw std::runtime_error("cannot write " + path.string());
+}
+
+namespace {
+
+// Runs `sql` and hands its first row's statement to `read`.
+template <typename T, typename Read>
+T QueryFirst(const std::string& path, const std::string& sql, Read read) {
+  sqlite3* db = nullptr;
+  REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
+  sqlite3_stmt* statement = nullptr;
+  REQUIRE_MESSAGE(sqlite3_prepare_v2(db, sql.c_str(), -1, &statement, nullptr) == SQLITE_OK,
+                  sqlite3_errmsg(db));
+  REQUIRE(sqlite3_step(statement) == SQLITE_ROW);
+  T value = read(statement);
+  sqlite3_finalize(statement);
+  sqlite3_close(db);
+  return value;
+}
+
+}  // namespace
+
+std::int64_t QueryInt(const std::string& path, const std::string& sql) {
+  return QueryFirst<std::int64_t>(path, sql,
+                                  [](sqlite3_stmt* row) { return sqlite3_column_int64(row, 0); });
+}
+
+double QueryDouble(const std::string& path, const std::string& sql) {
+  return QueryFirst<double>(path, sql,
+                            [](sqlite3_stmt* row) { return sqlite3_column_double(row, 0); });
 }
 
 }  // namespace ampledger::testing

@@ -3,6 +3,7 @@
 // shared/reference, and reading whole files.
 #pragma once
 
+#include <cstdint>
 #include <filesystem>
 #include <string>
 
@@ -32,6 +33,11 @@ std::filesystem::path ReferenceDir();
 std::string AmpledgerBinary();
 
 std::string ReadFile(const std::filesystem::path& path);
+
+// The first column of the first row of `sql` on the SQLite database at `path`, opened
+// read-only (the daemon may still have it open). Fails the test on any error.
+std::int64_t QueryInt(const std::string& path, const std::string& sql);
+double QueryDouble(const std::string& path, const std::string& sql);
 void WriteFile(const std::filesystem::path& path, const std::string& text);
 
 }  // namespace ampledger::testing

@@ -34,23 +34,10 @@ std::string PeerAddress::ToString() const {
 }
 
 Result<PeerAddress> ResolveAddress(const std::string& host_port) {
-  std::string host;
-  std::string port;
-  if (!host_port.empty() && host_port.front() == '[') {
-    size_t close = host_port.find("]:");
-    if (close == std::string::npos) {
-      return Status::InvalidArgument("\"" + host_port + "\" is not [v6-address]:port");
-    }
-    host = host_port.substr(1, close - 1);
-    port = host_port.substr(close + 2);
-  } else {
-    size_t colon = host_port.rfind(':');
-    if (colon == std::string::npos) {
-      return Status::InvalidArgument("\"" + host_port + "\" is not host:port");
-    }
-    host = host_port.substr(0, colon);
-    port = host_port.substr(colon + 1);
-  }
+  Result<ListenAddress> parsed = ParseListenAddress(host_port);
+  if (!parsed.ok()) return parsed.status();
+  const std::string& host = parsed->host;
+  const std::string port = std::to_string(parsed->port);
   addrinfo hints{};
   hints.ai_family = AF_UNSPEC;
   hints.ai_socktype = SOCK_DGRAM;

@@ -4,7 +4,6 @@
 
 #include <doctest/doctest.h>
 #include <httplib.h>
-#include <sqlite3.h>
 
 #include <nlohmann/json.hpp>
 #include <thread>
@@ -15,18 +14,6 @@
 
 namespace ampledger {
 namespace {
-
-std::int64_t QueryInt(const std::string& path, const std::string& sql) {
-  sqlite3* db = nullptr;
-  REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
-  sqlite3_stmt* statement = nullptr;
-  REQUIRE(sqlite3_prepare_v2(db, sql.c_str(), -1, &statement, nullptr) == SQLITE_OK);
-  REQUIRE(sqlite3_step(statement) == SQLITE_ROW);
-  std::int64_t value = sqlite3_column_int64(statement, 0);
-  sqlite3_finalize(statement);
-  sqlite3_close(db);
-  return value;
-}
 
 TEST_SUITE("daemon") {
   TEST_CASE("the demo's simulated nodes backfill history and report live through the daemon") {
@@ -74,9 +61,9 @@ TEST_SUITE("daemon") {
     REQUIRE(service.Wait().ok());
     const std::string db = config->storage.path;
     // Every channel wired to a circuit has rolled-up energy for the day.
-    CHECK(QueryInt(db, "SELECT count(DISTINCT circuit) FROM rollup") ==
+    CHECK(testing::QueryInt(db, "SELECT count(DISTINCT circuit) FROM rollup") ==
           static_cast<std::int64_t>(config->circuits.size()));
-    CHECK(QueryInt(db, "SELECT count(*) FROM reading") >= history * 5);
+    CHECK(testing::QueryInt(db, "SELECT count(*) FROM reading") >= history * 5);
   }
 }
 

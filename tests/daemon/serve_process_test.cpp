@@ -6,7 +6,6 @@
 #include <netinet/in.h>
 #include <signal.h>
 #include <spawn.h>
-#include <sqlite3.h>
 #include <sys/socket.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -14,6 +13,7 @@
 #include <chrono>
 #include <thread>
 
+#include "config/wall_clock.h"
 #include "daemon/ingest/node_client.h"
 #include "test_util.h"
 
@@ -58,19 +58,6 @@ int WaitExit(pid_t pid) {
   ::kill(pid, SIGKILL);
   ::waitpid(pid, nullptr, 0);
   return -2;
-}
-
-int CountReadings(const std::string& path) {
-  sqlite3* db = nullptr;
-  REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
-  sqlite3_stmt* statement = nullptr;
-  REQUIRE(sqlite3_prepare_v2(db, "SELECT count(*) FROM reading", -1, &statement, nullptr) ==
-          SQLITE_OK);
-  REQUIRE(sqlite3_step(statement) == SQLITE_ROW);
-  int count = sqlite3_column_int(statement, 0);
-  sqlite3_finalize(statement);
-  sqlite3_close(db);
-  return count;
 }
 
 TEST_SUITE("daemon") {
@@ -122,9 +109,7 @@ listen = "127.0.0.1:)toml" + std::to_string(http_port) + R"toml("
     options.key = key;
     auto client = NodeClient::Open("127.0.0.1:" + std::to_string(udp_port), options);
     REQUIRE(client.ok());
-    const UnixMs now = std::chrono::duration_cast<std::chrono::milliseconds>(
-                           std::chrono::system_clock::now().time_since_epoch())
-                           .count();
+    const UnixMs now = WallClockMs();
     constexpr int kPacks = 200;
     for (int i = 0; i < kPacks; ++i) {
       ChannelSample sample;
@@ -146,7 +131,8 @@ listen = "127.0.0.1:)toml" + std::to_string(http_port) + R"toml("
     CHECK(WaitExit(pid) == 0);
     std::string log = testing::ReadFile(dir.File("serve.log"));
     CHECK(log.find("stopped cleanly") != std::string::npos);
-    CHECK(CountReadings(dir.File("site.db")) == static_cast<int>(acknowledged));
+    CHECK(testing::QueryInt(dir.File("site.db"), "SELECT count(*) FROM reading") ==
+          static_cast<std::int64_t>(acknowledged));
   }
 
   TEST_CASE("ampledger serve refuses a bad config with the file, line and key, exit 2") {

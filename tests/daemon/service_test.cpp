@@ -4,13 +4,13 @@
 
 #include <doctest/doctest.h>
 #include <httplib.h>
-#include <sqlite3.h>
 
 #include <chrono>
 #include <cmath>
 #include <nlohmann/json.hpp>
 #include <thread>
 
+#include "config/wall_clock.h"
 #include "daemon/ingest/node_client.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "test_util.h"
@@ -62,12 +62,6 @@ threads = 2
   return *config;
 }
 
-UnixMs NowMs() {
-  return std::chrono::duration_cast<std::chrono::milliseconds>(
-             std::chrono::system_clock::now().time_since_epoch())
-      .count();
-}
-
 // One 10-second interval of a steady load: the register grows by exactly watts x 10 s.
 NodePack HeaterPack(std::uint32_t boot, std::uint32_t seq, UnixMs end_ms, double watts,
                     double register_j) {
@@ -79,18 +73,6 @@ NodePack HeaterPack(std::uint32_t boot, std::uint32_t seq, UnixMs end_ms, double
   sample.real_watts = watts;
   sample.real_register_j = register_j;
   return NodePack{"bench", boot, seq, 10000, {sample}};
-}
-
-double QueryDouble(const std::string& path, const std::string& sql) {
-  sqlite3* db = nullptr;
-  REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
-  sqlite3_stmt* statement = nullptr;
-  REQUIRE(sqlite3_prepare_v2(db, sql.c_str(), -1, &statement, nullptr) == SQLITE_OK);
-  REQUIRE(sqlite3_step(statement) == SQLITE_ROW);
-  double value = sqlite3_column_double(statement, 0);
-  sqlite3_finalize(statement);
-  sqlite3_close(db);
-  return value;
 }
 
 // Waits (bounded) until every pack sent through `client` is acknowledged, resending.
@@ -123,7 +105,7 @@ TEST_SUITE("daemon") {
     // Packs of an earlier boot are refused as replays, so the node resends its losses before
     // the reboot (as one that keeps unacknowledged packs in RAM would have to).
     constexpr int kPacks = 3000;
-    const UnixMs first_end = NowMs() - kPacks * 10000;
+    const UnixMs first_end = WallClockMs() - kPacks * 10000;
     double truth_wh = 0;
     double register_j = 0;
     std::uint32_t boot = 1, seq = 0;
@@ -160,7 +142,7 @@ TEST_SUITE("daemon") {
     NodeClientOptions forger = options;
     forger.key = std::string(32, 'x');
     auto forged = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), forger);
-    REQUIRE((*forged)->Send(HeaterPack(2, 99999, NowMs(), 5000, 1e9)).ok());
+    REQUIRE((*forged)->Send(HeaterPack(2, 99999, WallClockMs(), 5000, 1e9)).ok());
     auto replayer = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), options);
     REQUIRE((*replayer)->Send(HeaterPack(1, 5, first_end + 50000, 5000, 1e9)).ok());
     CHECK((*forged)->PollAcks(300) == 0);
@@ -194,8 +176,8 @@ TEST_SUITE("daemon") {
     service.RequestStop();
     REQUIRE(service.Wait().ok());
 
-    CHECK(QueryDouble(db_path, "SELECT count(*) FROM reading") == kPacks);
-    double stored_wh = QueryDouble(db_path, "SELECT sum(real_wh) FROM rollup");
+    CHECK(testing::QueryDouble(db_path, "SELECT count(*) FROM reading") == kPacks);
+    double stored_wh = testing::QueryDouble(db_path, "SELECT sum(real_wh) FROM rollup");
     CHECK(stored_wh == doctest::Approx(truth_wh).epsilon(1e-9));
   }
 }

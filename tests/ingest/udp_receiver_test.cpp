@@ -111,7 +111,9 @@ TEST_SUITE("ingest") {
     config.listen = "no-port-here";
     auto receiver = UdpReceiver::Open(config);
     REQUIRE_FALSE(receiver.ok());
-    CHECK(receiver.status().message() == "ingest.listen: \"no-port-here\" is not host:port");
+    CHECK(receiver.status().message() ==
+          "ingest.listen: expected \"host:port\" or \"[IPv6]:port\" with a port from 0 to "
+          "65535, got \"no-port-here\"");
   }
 
   TEST_CASE("UdpReceiver times out quietly when nothing arrives") {
