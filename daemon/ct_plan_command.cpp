@@ -66,9 +66,10 @@ std::string DescribeCtPlan(const CtPlanInput& input, const CtPlan& plan) {
           Format(": %.4g V, %.3g uA through it; decouple the bias point with a capacitor\n",
                  plan.bias_actual_volts, plan.bias_divider_amps * 1e6);
   text += "Calibration constant for the node's firmware\n";
-  text += Format("  amps_per_volt = %.6g        # primary A per V across the burden (turns/ohms)\n",
-                 plan.amps_per_volt);
-  text += Format("  amps_per_count = %.6g       # the same per ADC count\n", plan.amps_per_count);
+  std::string per_volt = Format("amps_per_volt = %.6g", plan.amps_per_volt);
+  std::string per_count = Format("amps_per_count = %.6g", plan.amps_per_count);
+  text += Format("  %-28s# primary A per V across the burden (turns / ohms)\n", per_volt.c_str());
+  text += Format("  %-28s# the same per ADC count\n", per_count.c_str());
   text += "  In ampledger's config, start the channel at gain = 1 and set rated_amps to the\n"
           "  CT's rating; `ampledger calibrate` refines the gain against a reference.\n";
   if (plan.exceeds_ct_rating) {

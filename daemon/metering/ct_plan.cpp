@@ -1,6 +1,7 @@
 // daemon/metering/ct_plan.cpp
 #include "daemon/metering/ct_plan.h"
 
+#include <algorithm>
 #include <array>
 #include <cctype>
 #include <cmath>
