@@ -1,9 +1,9 @@
 #!/usr/bin/env bash
 # tests/deploy/package_test.sh BUILD_DIR
-# Builds the .deb with CPack from BUILD_DIR, inspects it (dpkg-deb -I / -c), then installs,
-# upgrades (reinstalls over itself), removes and purges it with dpkg in a throwaway root
-# (dpkg --root with --force-script-chrootless: the maintainer scripts run on this machine with
-# $DPKG_ROOT set, and touch nothing outside that root). systemd is not running there, so the
+# Builds the .deb with CPack from BUILD_DIR, inspects it (dpkg-deb -I / -c), then installs it,
+# upgrades it to a later version (the same build, repackaged), removes and purges it with dpkg
+# in a throwaway root (dpkg --root with --force-script-chrootless: the maintainer scripts run on
+# this machine with $DPKG_ROOT set, and touch nothing outside that root). systemd is not running there, so the
 # scripts' systemctl calls are skipped; what is checked is the files, the conffile handling,
 # the system user the postinst creates, and that the installed program runs.
 set -euo pipefail
@@ -12,6 +12,8 @@ build_dir=$(cd "$1" && pwd)
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 fail() { echo "FAIL: $*"; exit 1; }
+# dpkg looks for ldconfig and start-stop-daemon in PATH, which for a normal user may lack sbin.
+export PATH="$PATH:/usr/sbin:/sbin"
 
 # dpkg must own files as root inside the throwaway root; fakeroot stands in when not root.
 as_root=()
@@ -76,9 +78,18 @@ config="$root/etc/ampledger/ampledger.toml"
 } >> "$config"
 "$root/usr/bin/ampledger" check --config "$config" > "$work/check" || { cat "$work/check"; fail "check"; }
 
-echo "== upgrade: install the package again over itself"
-dpkg_root -i "$deb" > "$work/dpkg.log" 2>&1 || { cat "$work/dpkg.log"; fail "dpkg -i (upgrade)"; }
+echo "== upgrade to a later version of the same build"
+version=$(dpkg-deb -f "$deb" Version)
+(cd "$build_dir" && cpack -G DEB -B "$work/next" -D CPACK_PACKAGE_VERSION="$version+next" \
+  > "$work/cpack.log") || { cat "$work/cpack.log"; fail "cpack (next version)"; }
+next_debs=("$work"/next/ampledger_*.deb)
+dpkg_root -i "${next_debs[0]}" > "$work/dpkg.log" 2>&1 \
+  || { cat "$work/dpkg.log"; fail "dpkg -i (upgrade)"; }
+[ "$(dpkg-query --admindir="$root/var/lib/dpkg" -W -f='${Version}' ampledger)" = "$version+next" ] \
+  || fail "version after upgrade"
 grep -q 'board-test' "$config" || fail "upgrade replaced the edited conffile"
+[ -f "$root/etc/ampledger/board-test.key" ] || fail "upgrade lost the key file"
+"$root/usr/bin/ampledger" check --config "$config" > /dev/null || fail "check after upgrade"
 
 echo "== remove: program gone, config and keys kept"
 dpkg_root -r ampledger > "$work/dpkg.log" 2>&1 || { cat "$work/dpkg.log"; fail "dpkg -r"; }
