@@ -288,7 +288,16 @@ class StatementBuilder {
       floors += floor;
     }
     std::vector<Micros> extra = Apportion(result_.site.total - floors, kMicrosPerCent, fractions);
-    for (std::size_t k = 0; k < extra.size(); ++k) result_.units[k].total += extra[k];
+    for (std::size_t k = 0; k < extra.size(); ++k) {
+      Statement& statement = result_.units[k];
+      statement.total += extra[k];
+      Micros lines = 0;
+      for (const StatementLine& line : statement.lines) lines += line.amount;
+      if (lines != statement.total) {  // the lines are in micro-units: show the rounding
+        statement.lines.push_back({StatementSection::kCommon, "Rounding to the cent",
+                                   "largest remainder", 1, "cycle", 0, statement.total - lines});
+      }
+    }
   }
 
   const Config& config_;

@@ -17,7 +17,9 @@
 //    owner's part), shown only when it is not empty.
 // Each line is split to the cent (to the micro-unit when the tariff rounds only totals) by
 // the largest-remainder method (daemon/metering/shares.h), so the statements add up to the
-// site bill exactly; the unit listed first in the config gets a tied cent first.
+// site bill exactly; the unit listed first in the config gets a tied cent first. When the
+// tariff rounds only totals, each statement's total is rounded to the cent by the same method
+// and a "Rounding to the cent" line shows the difference from its micro-unit lines.
 //
 // Main meter. Given the main meter's kWh for the cycle (typed in), the unmetered remainder is
 // main meter - grid import computed from the submetered circuits (all consumption circuits
