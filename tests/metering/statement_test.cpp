@@ -140,8 +140,9 @@ TEST_SUITE("metering") {
       for (const Statement& statement : result->units) {
         for (const StatementLine& line : statement.lines) {
           bool credit = line.description.rfind("Rebate", 0) == 0 ||
-                        line.description == "Export credit";
-          if (!credit) CHECK(line.amount >= 0);
+                        line.description == "Export credit" ||
+                        line.description == "Rounding to the cent";
+          if (!credit) CHECK_MESSAGE(line.amount >= 0, line.description);
         }
       }
     }
