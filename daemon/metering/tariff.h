@@ -1,9 +1,9 @@
 // daemon/metering/tariff.h
-// Time-of-use energy rates: which rate period, at which price per kWh, applies at each local
-// moment, and the energy charge of a series of 15-minute buckets. This is the first slice of
-// the tariff engine: seasons, day kinds, rate windows and per-kWh prices. Tiers, adders, fixed
-// and demand charges, taxes and export credit build on it. Pure; a Tariff is immutable after
-// Create() and any thread may call it.
+// A validated tariff: which rate period, at which price per kWh, applies at each local moment,
+// and the energy charge of a series of 15-minute buckets. The other charges of the file
+// (tiers, adders, fixed and demand charges, adjustments, export, rounding) are checked here and
+// applied by ComputeBill (daemon/metering/bill.h). Pure; a Tariff is immutable after Create()
+// and any thread may call it.
 //
 // How a local moment finds its period:
 //  1. Season: the one whose [first_day, last_day] (inclusive, month and day) holds the local

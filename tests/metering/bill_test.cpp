@@ -29,9 +29,6 @@ TariffConfig PeakTariff() {
   return config;
 }
 
-// Bucket k of a cycle starting at local midnight of a 24-hour day is hour k / 4 there.
-bool InPeak(int k) { return k % 96 >= 64 && k % 96 < 84; }
-
 TEST_SUITE("metering") {
   TEST_CASE("net billing: imports at retail, exports at the export price (hand, ours)") {
     LocalTime zone = Zone("UTC");
