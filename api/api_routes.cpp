@@ -6,7 +6,13 @@
 #include <filesystem>
 #include <nlohmann/json.hpp>
 
+#include "api/access.h"
+#include "api/api_limits.h"
 #include "api/metrics.h"
+#include "api/problem.h"
+#include "api/series_route.h"
+#include "api/token.h"
+#include "config/wall_clock.h"
 #include "storage/database.h"
 #include "storage/queries.h"
 
@@ -19,12 +25,6 @@ using nlohmann::json;
 // Below this much free space the daemon is still running but not ready: SQLite needs room
 // for the WAL and checkpoints (common practice: keep well clear of a full disk).
 constexpr std::uint64_t kMinFreeBytes = 64ull << 20;
-
-UnixMs NowMs() {
-  return std::chrono::duration_cast<std::chrono::milliseconds>(
-             std::chrono::system_clock::now().time_since_epoch())
-      .count();
-}
 
 std::uint64_t FreeBytes(const std::string& database_path) {
   struct statvfs info {};
@@ -41,7 +41,7 @@ Result<HttpResponse> Health(const ApiContext& context) {
       {"status", ready ? "ready" : "degraded"},
       {"writer", writer.ok() ? "ok" : writer.ToString()},
       {"disk_free_bytes", free_bytes},
-      {"time", NowMs()},
+      {"time", WallClockMs()},
   };
   // 503 tells a load balancer or script that acknowledgements have stopped.
   return HttpResponse::Json(body.dump(), ready ? 200 : 503);
@@ -109,10 +109,9 @@ Result<HttpResponse> Nodes(const ApiContext& context) {
 }
 
 // The newest reading of every channel in the last hour.
-Result<std::vector<ChannelReading>> LatestReadings(const ApiContext& context, UnixMs now) {
-  Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
-  if (!db.ok()) return db.status();
-  return ReadLatestReadings(**db, *context.series, now - 3600 * kMsPerSecond);
+Result<std::vector<ChannelReading>> LatestReadings(const ApiContext& context, const Database& db,
+                                                   UnixMs now) {
+  return ReadLatestReadings(db, *context.series, now - kLiveHorizonMs);
 }
 
 std::uint64_t FileBytes(const std::string& path) {
@@ -121,9 +120,9 @@ std::uint64_t FileBytes(const std::string& path) {
   return error ? 0 : size;
 }
 
-Result<HttpResponse> Metrics(const ApiContext& context) {
-  const UnixMs now = NowMs();
-  Result<std::vector<ChannelReading>> latest = LatestReadings(context, now);
+Result<HttpResponse> Metrics(const ApiContext& context, const Database& db) {
+  const UnixMs now = WallClockMs();
+  Result<std::vector<ChannelReading>> latest = LatestReadings(context, db, now);
   if (!latest.ok()) return latest.status();
   const Config& config = *context.config;
   std::vector<CircuitPower> live(config.circuits.size());
@@ -152,22 +151,25 @@ Result<HttpResponse> Metrics(const ApiContext& context) {
   return response;
 }
 
-// Live values per circuit: the newest reading of each of its channels in the last hour.
-Result<HttpResponse> Live(const ApiContext& context) {
-  const UnixMs now = NowMs();
-  Result<std::vector<ChannelReading>> latest = LatestReadings(context, now);
+// Live values per circuit the scope may see: the newest reading of each of its channels in
+// the last hour.
+Result<HttpResponse> Live(const ApiContext& context, const Database& db, const Scope& scope) {
+  const UnixMs now = WallClockMs();
+  Result<std::vector<ChannelReading>> latest = LatestReadings(context, db, now);
   if (!latest.ok()) return latest.status();
   const Config& config = *context.config;
-  std::vector<json> circuits(config.circuits.size());
-  for (size_t i = 0; i < config.circuits.size(); ++i) {
-    circuits[i] = {{"id", config.circuits[i].id}, {"watts", 0.0}, {"va", 0.0}, {"amps", 0.0},
-                   {"direction", DirectionName(config.circuits[i].direction)},
-                   {"reading_end", nullptr}};
+  std::vector<int> slot(config.circuits.size(), -1);  // circuit index -> position in output
+  json circuits = json::array();
+  for (int i : VisibleCircuits(config, scope)) {
+    slot[i] = static_cast<int>(circuits.size());
+    circuits.push_back({{"id", config.circuits[i].id}, {"watts", 0.0}, {"va", 0.0},
+                        {"amps", 0.0}, {"direction", DirectionName(config.circuits[i].direction)},
+                        {"reading_end", nullptr}});
   }
   for (const ChannelReading& reading : *latest) {
     int circuit = context.series->circuit_of_channel[reading.channel];
-    if (circuit < 0) continue;
-    json& entry = circuits[circuit];
+    if (circuit < 0 || slot[circuit] < 0) continue;
+    json& entry = circuits[slot[circuit]];
     entry["watts"] = entry["watts"].get<double>() + reading.real_watts;
     entry["va"] = entry["va"].get<double>() + reading.apparent_va;
     entry["amps"] = entry["amps"].get<double>() + reading.amps;
@@ -177,17 +179,183 @@ Result<HttpResponse> Live(const ApiContext& context) {
       entry["age_s"] = (now - reading.end_ms) / 1000.0;
     }
   }
-  return HttpResponse::Json(json{{"circuits", circuits}, {"units", {{"power", "W"}}}}.dump());
+  return HttpResponse::Json(json{{"circuits", circuits},
+                                 {"units",
+                                  {{"watts", "W"}, {"va", "VA"}, {"amps", "A"}, {"volts", "V"},
+                                   {"age_s", "s"}, {"reading_end", "ms since 1970-01-01Z"}}}}
+                                .dump());
+}
+
+Result<HttpResponse> Circuits(const ApiContext& context, const Scope& scope) {
+  const Config& config = *context.config;
+  json circuits = json::array();
+  for (int i : VisibleCircuits(config, scope)) {
+    const CircuitConfig& circuit = config.circuits[i];
+    json channels = json::array();
+    for (const ChannelRef& channel : circuit.channels) channels.push_back(channel.ToString());
+    const int owner = OwnerOfCircuit(config, i);
+    circuits.push_back({{"id", circuit.id},
+                        {"name", circuit.name},
+                        {"direction", DirectionName(circuit.direction)},
+                        {"unit", owner >= 0 ? json(config.units[owner].id) : json(nullptr)},
+                        {"channels", channels}});
+  }
+  return HttpResponse::Json(json{{"circuits", circuits}}.dump());
+}
+
+Result<HttpResponse> Units(const ApiContext& context, const Scope& scope) {
+  const Config& config = *context.config;
+  json units = json::array();
+  for (const UnitConfig& unit : config.units) {
+    if (VisibleUnit(config, scope, unit.id) < 0) continue;
+    units.push_back({{"id", unit.id}, {"name", unit.name}, {"circuits", unit.circuits}});
+  }
+  return HttpResponse::Json(json{{"units", units}}.dump());
+}
+
+// The site's zone, looked up once; series routes answer its error if it has none.
+struct SiteZone {
+  std::optional<LocalTime> zone;
+  Status error;
+};
+
+Result<HttpResponse> CircuitSeries(const ApiContext& context, const SiteZone& site,
+                                   const HttpRequest& request, const Database& db,
+                                   const Scope& scope) {
+  const std::string& id = request.path_params[0];
+  const int circuit = VisibleCircuit(*context.config, scope, id);
+  if (circuit < 0) return Status::NotFound("no circuit \"" + id + "\"");
+  if (!site.zone) return site.error;
+  return AnswerSeries(request, *context.config, *context.series, *site.zone, db,
+                      SeriesSubject{"circuit", id, {circuit}});
+}
+
+Result<HttpResponse> UnitSeries(const ApiContext& context, const SiteZone& site,
+                                const HttpRequest& request, const Database& db,
+                                const Scope& scope) {
+  const Config& config = *context.config;
+  const std::string& id = request.path_params[0];
+  const int unit = VisibleUnit(config, scope, id);
+  if (unit < 0) return Status::NotFound("no unit \"" + id + "\"");
+  if (!site.zone) return site.error;
+  SeriesSubject subject{"unit", id, {}};
+  for (size_t i = 0; i < config.circuits.size(); ++i) {
+    if (OwnerOfCircuit(config, static_cast<int>(i)) == unit) {
+      subject.circuits.push_back(static_cast<int>(i));
+    }
+  }
+  return AnswerSeries(request, config, *context.series, *site.zone, db, subject);
+}
+
+// What a route needs of its caller's scope.
+enum class Reach {
+  kScoped,    // any scope; the handler shows only what the scope may see
+  kSiteWide,  // admin or viewer; a unit token is told the route does not exist
+};
+
+// Whether a request without a token may still be answered (ApiContext::anonymous_status_routes).
+enum class Anonymous { kRefused, kAllowedWhenConfigured };
+
+using ScopedHandler =
+    std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;
+
+HttpResponse Unauthorized(const std::string& detail, bool token_presented) {
+  HttpResponse response;
+  response.status = 401;
+  response.content_type = kProblemContentType;
+  response.body = ProblemJson(ProblemWithStatus(401, detail));
+  // RFC 6750 section 3: the challenge, with error="invalid_token" when a token was sent.
+  response.headers.emplace_back("WWW-Authenticate",
+                                token_presented ? "Bearer realm=\"ampledger\", "
+                                                  "error=\"invalid_token\""
+                                                : "Bearer realm=\"ampledger\"");
+  return response;
+}
+
+// Wraps `handler` so it runs only for a valid bearer token, on the request's own reader
+// connection. The token is looked up on every request, so a revoked token stops at once.
+HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handler,
+                    Anonymous anonymous = Anonymous::kRefused) {
+  return [context, reach, handler = std::move(handler), anonymous](
+             const HttpRequest& request) -> Result<HttpResponse> {
+    Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
+    if (!db.ok()) return db.status();
+    if (request.authorization.empty() && context.anonymous_status_routes &&
+        anonymous == Anonymous::kAllowedWhenConfigured) {
+      return handler(request, **db, Scope{Scope::Kind::kViewer, ""});
+    }
+    Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
+    if (!scope.ok()) return scope.status();
+    if (!scope->has_value()) {
+      return Unauthorized(request.authorization.empty()
+                              ? "this route needs an Authorization: Bearer token"
+                              : "the bearer token is not valid (malformed, unknown or revoked)",
+                          !request.authorization.empty());
+    }
+    if (reach == Reach::kSiteWide && !(*scope)->SeesWholeSite()) {
+      // The answer a path with no route gets: a unit token cannot tell the difference.
+      return Status::NotFound("no resource at " + request.path);
+    }
+    return handler(request, **db, **scope);
+  };
 }
 
 }  // namespace
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context) {
+  auto site = std::make_shared<SiteZone>();
+  Result<LocalTime> zone = LocalTime::ForZone(context.config->site.time_zone);
+  if (zone.ok()) {
+    site->zone = *zone;
+  } else {
+    site->error = zone.status();
+  }
+  // Unauthenticated: a supervisor or load balancer may ask whether the daemon is healthy.
   server.Route("GET", "/v1/health", [context](const HttpRequest&) { return Health(context); });
-  server.Route("GET", "/v1/site", [context](const HttpRequest&) { return Site(context); });
-  server.Route("GET", "/v1/nodes", [context](const HttpRequest&) { return Nodes(context); });
-  server.Route("GET", "/v1/live", [context](const HttpRequest&) { return Live(context); });
-  server.Route("GET", "/metrics", [context](const HttpRequest&) { return Metrics(context); });
+  server.Route("GET", "/v1/site",
+               Guarded(context, Reach::kSiteWide,
+                       [context](const HttpRequest&, const Database&, const Scope&) {
+                         return Site(context);
+                       }));
+  server.Route("GET", "/v1/nodes",
+               Guarded(context, Reach::kSiteWide,
+                       [context](const HttpRequest&, const Database&, const Scope&) {
+                         return Nodes(context);
+                       },
+                       Anonymous::kAllowedWhenConfigured));
+  server.Route("GET", "/v1/live",
+               Guarded(context, Reach::kScoped,
+                       [context](const HttpRequest&, const Database& db, const Scope& scope) {
+                         return Live(context, db, scope);
+                       },
+                       Anonymous::kAllowedWhenConfigured));
+  server.Route("GET", "/v1/circuits",
+               Guarded(context, Reach::kScoped,
+                       [context](const HttpRequest&, const Database&, const Scope& scope) {
+                         return Circuits(context, scope);
+                       }));
+  server.Route("GET", "/v1/units",
+               Guarded(context, Reach::kScoped,
+                       [context](const HttpRequest&, const Database&, const Scope& scope) {
+                         return Units(context, scope);
+                       }));
+  server.Route("GET", "/v1/circuits/([^/]+)/series",
+               Guarded(context, Reach::kScoped,
+                       [context, site](const HttpRequest& request, const Database& db,
+                                       const Scope& scope) {
+                         return CircuitSeries(context, *site, request, db, scope);
+                       }));
+  server.Route("GET", "/v1/units/([^/]+)/series",
+               Guarded(context, Reach::kScoped,
+                       [context, site](const HttpRequest& request, const Database& db,
+                                       const Scope& scope) {
+                         return UnitSeries(context, *site, request, db, scope);
+                       }));
+  server.Route("GET", "/metrics",
+               Guarded(context, Reach::kSiteWide,
+                       [context](const HttpRequest&, const Database& db, const Scope&) {
+                         return Metrics(context, db);
+                       }));
 }
 
 }  // namespace ampledger

@@ -19,6 +19,7 @@
 #include "daemon/node_command.h"
 #include "daemon/send_command.h"
 #include "daemon/service.h"
+#include "daemon/token_command.h"
 #include "storage/backup.h"
 
 namespace ampledger {
@@ -216,6 +217,24 @@ int main(int argc, char** argv) {
   calibrate->add_option("--line-volts", calibrate_options.line_volts,
                         "line voltage measured during the test");
 
+  TokenOptions token_options;
+  auto* token = app.add_subcommand("token", "manage API bearer tokens");
+  token->require_subcommand(1);
+  auto* token_create = token->add_subcommand("create", "make a token and print it once");
+  token_create->add_option("--config,-c", token_options.config_path, "configuration file")
+      ->required();
+  token_create->add_option("--scope", token_options.scope, "admin, viewer or unit:<unit id>")
+      ->required();
+  token_create->add_option("--label", token_options.label, "who or what holds the token");
+  auto* token_list = token->add_subcommand("list", "list tokens (never the tokens themselves)");
+  token_list->add_option("--config,-c", token_options.config_path, "configuration file")
+      ->required();
+  auto* token_revoke = token->add_subcommand("revoke", "stop a token from working");
+  token_revoke->add_option("--config,-c", token_options.config_path, "configuration file")
+      ->required();
+  token_revoke->add_option("id", token_options.id, "the token's id (from token list)")
+      ->required();
+
   CLI11_PARSE(app, argc, argv);
   if (*serve) return Serve(config_path, log_level);
   if (*check) return Check(config_path);
@@ -224,5 +243,8 @@ int main(int argc, char** argv) {
   if (*ct_plan) return RunCtPlan(plan, std::cout, std::cerr);
   if (*node_add) return RunNodeAdd(node_add_options, std::cout, std::cerr);
   if (*calibrate) return RunCalibrate(calibrate_options, std::cout, std::cerr);
+  if (*token_create) return RunTokenCreate(token_options, std::cout, std::cerr);
+  if (*token_list) return RunTokenList(token_options, std::cout, std::cerr);
+  if (*token_revoke) return RunTokenRevoke(token_options, std::cout, std::cerr);
   return Demo(demo_options);  // `ampledger demo`, and `ampledger` alone
 }

@@ -60,6 +60,18 @@ CREATE TABLE node_state (
   blob BLOB NOT NULL
 ) WITHOUT ROWID;
 )sql",
+      // 2: API bearer tokens. Only the SHA-256 of a token's secret is kept; the secret is shown
+      // once, when the token is made. A revoked token keeps its row (revoked_ms set).
+      R"sql(
+CREATE TABLE api_token (
+  id INTEGER PRIMARY KEY,
+  secret_sha256 BLOB NOT NULL,      -- 32 bytes
+  scope TEXT NOT NULL,              -- "admin", "viewer" or "unit:<unit id>"
+  label TEXT NOT NULL,
+  created_ms INTEGER NOT NULL,      -- ms since 1970 UTC
+  revoked_ms INTEGER                -- NULL while the token works
+);
+)sql",
   };
   return kMigrations;
 }

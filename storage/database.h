@@ -11,6 +11,7 @@
 //   rollup(circuit, bucket, ...)       energy per circuit per 15-minute UTC bucket
 //   rollup_pending(bucket)             buckets whose rollup rows may lag the raw readings
 //   node_state(node, blob)             ingest's per-node state (anti-replay window)
+//   api_token(id, secret_sha256, ...)  API bearer tokens, hashed (storage/token_store.h)
 #pragma once
 
 #include <sqlite3.h>
@@ -27,7 +28,7 @@ namespace ampledger {
 
 // The schema version this build writes (PRAGMA user_version). Migration N takes a database
 // from version N-1 to N.
-constexpr int kSchemaVersion = 1;
+constexpr int kSchemaVersion = 2;
 
 class Database {
  public:

@@ -1,0 +1,257 @@
+// api/series_route.cpp
+#include "api/series_route.h"
+
+#include <algorithm>
+#include <cstdio>
+#include <nlohmann/json.hpp>
+
+#include "api/api_limits.h"
+#include "api/energy_series.h"
+#include "api/rfc3339.h"
+#include "storage/queries.h"
+
+namespace ampledger {
+namespace {
+
+using nlohmann::json;
+
+const char* QualityName(Quality quality) {
+  switch (quality) {
+    case Quality::kMeasured: return "measured";
+    case Quality::kDerived: return "derived";
+    case Quality::kEstimated: return "estimated";
+  }
+  return "estimated";
+}
+
+struct SeriesQuery {
+  UnixMs from_ms = 0;
+  UnixMs to_ms = 0;
+  SeriesStep step = SeriesStep::kHour;
+  bool csv = false;
+};
+
+Result<UnixMs> TimeParameter(const HttpRequest& request, const char* name) {
+  const std::string* text = request.Query(name);
+  if (text == nullptr) {
+    return Status::InvalidArgument(std::string("query parameter \"") + name +
+                                   "\": required, an RFC 3339 time with a UTC offset");
+  }
+  std::optional<UnixMs> instant = ParseRfc3339(*text);
+  if (!instant) {
+    return Status::InvalidArgument(std::string("query parameter \"") + name + "\": \"" + *text +
+                                   "\" is not an RFC 3339 time with a UTC offset "
+                                   "(e.g. 2026-03-08T00:00:00-06:00)");
+  }
+  return *instant;
+}
+
+Result<SeriesQuery> ParseQuery(const HttpRequest& request) {
+  static const char* const kKnown[] = {"from", "to", "step", "format"};
+  for (const auto& [name, value] : request.query) {
+    bool known = false;
+    for (const char* candidate : kKnown) known = known || name == candidate;
+    if (!known) {
+      return Status::InvalidArgument("query parameter \"" + name +
+                                     "\": not known here (from, to, step, format)");
+    }
+    if (request.query.count(name) > 1) {
+      return Status::InvalidArgument("query parameter \"" + name + "\": given more than once");
+    }
+  }
+  SeriesQuery query;
+  Result<UnixMs> from = TimeParameter(request, "from");
+  if (!from.ok()) return from.status();
+  Result<UnixMs> to = TimeParameter(request, "to");
+  if (!to.ok()) return to.status();
+  query.from_ms = *from;
+  query.to_ms = *to;
+  if (const std::string* step = request.Query("step")) {
+    Result<SeriesStep> parsed = ParseSeriesStep(*step);
+    if (!parsed.ok()) return parsed.status();
+    query.step = *parsed;
+  }
+  if (const std::string* format = request.Query("format")) {
+    if (*format != "json" && *format != "csv") {
+      return Status::InvalidArgument("query parameter \"format\": \"" + *format +
+                                     "\" is not json or csv");
+    }
+    query.csv = *format == "csv";
+  } else {
+    query.csv = request.accept.find("text/csv") != std::string::npos;
+  }
+  return query;
+}
+
+// RFC 4180: fields with a comma, quote or line break are quoted, quotes doubled.
+std::string CsvField(const std::string& text) {
+  if (text.find_first_of(",\"\r\n") == std::string::npos) return text;
+  std::string out = "\"";
+  for (char c : text) {
+    if (c == '"') out += '"';
+    out += c;
+  }
+  return out + "\"";
+}
+
+std::string Number(double value) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.6g", value);
+  return text;
+}
+
+HttpResponse CsvResponse(std::string body, const LocalTime& zone) {
+  HttpResponse response;
+  response.content_type = "text/csv; charset=utf-8; header=present";
+  response.body = std::move(body);
+  // CSV has no place for metadata: the zone goes in a header; units are in the column names.
+  response.headers.emplace_back("Ampledger-Time-Zone", zone.zone_name());
+  return response;
+}
+
+Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config,
+                                  const SeriesMap& series, const LocalTime& zone,
+                                  const Database& db, const SeriesSubject& subject) {
+  Result<std::vector<TimeRange>> periods =
+      SeriesPeriods(zone, query.step, query.from_ms, query.to_ms, kMaxSeriesPoints);
+  if (!periods.ok()) return periods.status();
+  Result<std::vector<std::vector<CircuitBucket>>> buckets =
+      ReadBucketsForCircuits(db, series, subject.circuits, query.from_ms, query.to_ms);
+  if (!buckets.ok()) return buckets.status();
+  const std::vector<SeriesPoint> points = SumIntoPeriods(*periods, *buckets);
+  double total_wh = 0;
+  for (const SeriesPoint& point : points) total_wh += point.real_wh;
+
+  if (query.csv) {
+    std::string body =
+        "start,end,energy_wh,apparent_energy_vah,mean_w,min_w,max_w,coverage,quality\r\n";
+    for (const SeriesPoint& point : points) {
+      body += FormatLocalRfc3339(zone, point.period.start_ms) + "," +
+              FormatLocalRfc3339(zone, point.period.end_ms) + "," + Number(point.real_wh) + "," +
+              Number(point.apparent_vah) + "," + Number(point.MeanWatts()) + "," +
+              (point.has_data ? Number(point.min_watts) : "") + "," +
+              (point.has_data ? Number(point.max_watts) : "") + "," + Number(point.coverage) +
+              "," + (point.has_data ? QualityName(point.quality) : "") + "\r\n";
+    }
+    return CsvResponse(std::move(body), zone);
+  }
+  json out = json::array();
+  for (const SeriesPoint& point : points) {
+    out.push_back({{"start", FormatLocalRfc3339(zone, point.period.start_ms)},
+                   {"end", FormatLocalRfc3339(zone, point.period.end_ms)},
+                   {"energy_wh", point.real_wh},
+                   {"apparent_energy_vah", point.apparent_vah},
+                   {"mean_w", point.MeanWatts()},
+                   {"min_w", point.has_data ? json(point.min_watts) : json(nullptr)},
+                   {"max_w", point.has_data ? json(point.max_watts) : json(nullptr)},
+                   {"coverage", point.coverage},
+                   {"quality", point.has_data ? json(QualityName(point.quality)) : json(nullptr)}});
+  }
+  json circuit_ids = json::array();
+  for (int circuit : subject.circuits) circuit_ids.push_back(config.circuits[circuit].id);
+  json body = {{subject.kind, subject.id},
+               {"circuits", circuit_ids},
+               {"step", SeriesStepName(query.step)},
+               {"from", FormatLocalRfc3339(zone, query.from_ms)},
+               {"to", FormatLocalRfc3339(zone, query.to_ms)},
+               {"time_zone", zone.zone_name()},
+               {"units",
+                {{"energy_wh", "Wh"}, {"apparent_energy_vah", "VAh"}, {"mean_w", "W"},
+                 {"min_w", "W"}, {"max_w", "W"}, {"total_energy_kwh", "kWh"},
+                 {"coverage", "fraction of the period measured, 0..1"}}},
+               {"total_energy_kwh", total_wh / 1000.0},
+               {"points", out}};
+  return HttpResponse::Json(body.dump());
+}
+
+// "node/channel" of each flat channel index, in Config order.
+std::vector<std::string> ChannelNames(const Config& config) {
+  std::vector<std::string> names;
+  for (const NodeConfig& node : config.nodes) {
+    for (const ChannelConfig& channel : node.channels) names.push_back(node.id + "/" + channel.id);
+  }
+  return names;
+}
+
+Result<HttpResponse> RawSeries(const SeriesQuery& query, const Config& config,
+                               const SeriesMap& series, const LocalTime& zone,
+                               const Database& db, const SeriesSubject& subject) {
+  if (subject.kind != std::string("circuit")) {
+    return Status::InvalidArgument("query parameter \"step\": raw readings are served per "
+                                   "circuit; a unit's series needs 15m, hour, day or month");
+  }
+  if (query.to_ms <= query.from_ms) {
+    return Status::InvalidArgument("query parameter \"to\": must be later than \"from\"");
+  }
+  if (query.to_ms - query.from_ms > kMaxRawRangeMs) {
+    return Status::InvalidArgument("query parameter \"to\": raw readings are served for at most " +
+                                   std::to_string(kMaxRawRangeMs / 3600000) +
+                                   " hours at a time; use a shorter range or step 15m");
+  }
+  // A reading is stamped at its interval's end: the readings inside (from, to] are those
+  // ending in [from + 1, to + 1).
+  std::vector<ChannelReading> readings;
+  for (int channel : series.channels_of_circuit[subject.circuits.front()]) {
+    Result<std::vector<ChannelReading>> some = ReadChannelReadings(
+        db, series, channel, query.from_ms + 1, query.to_ms + 1, kMaxSeriesPoints + 1);
+    if (!some.ok()) return some.status();
+    readings.insert(readings.end(), some->begin(), some->end());
+    if (static_cast<int>(readings.size()) > kMaxSeriesPoints) {
+      return Status::InvalidArgument("query parameter \"step\": the range holds more than " +
+                                     std::to_string(kMaxSeriesPoints) +
+                                     " raw readings; use step 15m or a shorter range");
+    }
+  }
+  std::sort(readings.begin(), readings.end(), [](const ChannelReading& a, const ChannelReading& b) {
+    return a.end_ms != b.end_ms ? a.end_ms < b.end_ms : a.channel < b.channel;
+  });
+  const std::vector<std::string> names = ChannelNames(config);
+  if (query.csv) {
+    std::string body = "channel,end,duration_s,real_w,apparent_va,amps,volts,volts_measured,"
+                       "quality\r\n";
+    for (const ChannelReading& r : readings) {
+      body += CsvField(names[r.channel]) + "," + FormatLocalRfc3339(zone, r.end_ms) + "," +
+              Number(r.duration_ms / 1000.0) + "," + Number(r.real_watts) + "," +
+              Number(r.apparent_va) + "," + Number(r.amps) + "," + Number(r.volts) + "," +
+              (r.volts_measured ? "true" : "false") + "," + QualityName(r.quality) + "\r\n";
+    }
+    return CsvResponse(std::move(body), zone);
+  }
+  json out = json::array();
+  for (const ChannelReading& r : readings) {
+    out.push_back({{"channel", names[r.channel]},
+                   {"end", FormatLocalRfc3339(zone, r.end_ms)},
+                   {"duration_s", r.duration_ms / 1000.0},
+                   {"real_w", r.real_watts},
+                   {"apparent_va", r.apparent_va},
+                   {"amps", r.amps},
+                   {"volts", r.volts},
+                   {"volts_measured", r.volts_measured},
+                   {"quality", QualityName(r.quality)}});
+  }
+  json body = {{subject.kind, subject.id},
+               {"step", "raw"},
+               {"from", FormatLocalRfc3339(zone, query.from_ms)},
+               {"to", FormatLocalRfc3339(zone, query.to_ms)},
+               {"time_zone", zone.zone_name()},
+               {"units",
+                {{"duration_s", "s"}, {"real_w", "W"}, {"apparent_va", "VA"}, {"amps", "A"},
+                 {"volts", "V"}}},
+               {"points", out}};
+  return HttpResponse::Json(body.dump());
+}
+
+}  // namespace
+
+Result<HttpResponse> AnswerSeries(const HttpRequest& request, const Config& config,
+                                  const SeriesMap& series, const LocalTime& zone,
+                                  const Database& db, const SeriesSubject& subject) {
+  Result<SeriesQuery> query = ParseQuery(request);
+  if (!query.ok()) return query.status();
+  if (query->step == SeriesStep::kRaw) {
+    return RawSeries(*query, config, series, zone, db, subject);
+  }
+  return PeriodSeries(*query, config, series, zone, db, subject);
+}
+
+}  // namespace ampledger

@@ -1,0 +1,513 @@
+// tests/api/api_routes_test.cpp
+// The API through a real HttpServer on 127.0.0.1 over a real SQLite file fed through the
+// ReadingWriter: who may see what (every route under every scope), bad inputs, and series
+// energy against the storage rollups.
+#include "api/api_routes.h"
+
+#include <doctest/doctest.h>
+#include <httplib.h>
+
+#include <chrono>
+#include <future>
+#include <nlohmann/json.hpp>
+
+#include "api/rfc3339.h"
+#include "api/token.h"
+#include "storage/queries.h"
+#include "storage/token_store.h"
+#include "test_util.h"
+
+namespace ampledger {
+namespace {
+
+using nlohmann::json;
+
+Config SiteConfig(const testing::TempDir& dir) {
+  // An invented duplex in the US Central zone: unit a has two circuits, unit b one, and the
+  // hall lights belong to no unit.
+  const std::string toml = R"toml(
+[site]
+name = "Maple Row duplex"
+time_zone = "America/Chicago"
+nominal_volts = [120]
+currency = "USD"
+
+[[node]]
+id = "panel"
+key = "00112233445566778899aabbccddeeff00112233445566778899aabbccddeeff"
+[[node.channel]]
+id = "ct1"
+[[node.channel]]
+id = "ct2"
+[[node.channel]]
+id = "ct3"
+[[node.channel]]
+id = "ct4"
+
+[[circuit]]
+id = "a-heat"
+channels = ["panel/ct1"]
+[[circuit]]
+id = "a-kitchen"
+channels = ["panel/ct4"]
+[[circuit]]
+id = "b-heat"
+channels = ["panel/ct2"]
+[[circuit]]
+id = "hall"
+channels = ["panel/ct3"]
+
+[[unit]]
+id = "a"
+circuits = ["a-heat", "a-kitchen"]
+[[unit]]
+id = "b"
+circuits = ["b-heat"]
+
+[storage]
+path = "site.db"
+
+[ingest]
+listen = "127.0.0.1:0"
+
+[http]
+listen = "127.0.0.1:0"
+threads = 2
+)toml";
+  Result<Config> config = ParseConfig(toml, dir.File("site.toml"));
+  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+  return *config;
+}
+
+UnixMs At(const char* text) { return ParseRfc3339(text).value(); }
+
+constexpr UnixMs kReadingMs = 5 * 60 * 1000;
+
+// Mean power of channel `channel` over the 5-minute interval ending at `end_ms`: a cycling
+// load per channel, so hours differ.
+double Watts(int channel, UnixMs end_ms) {
+  const std::int64_t interval = end_ms / kReadingMs;
+  return 300.0 * (channel + 1) + 40.0 * ((interval / 7) % 5);
+}
+
+// The data: two stretches of 5-minute readings around America/Chicago's DST changes of 2026
+// (IANA tz: 2026-03-08 and 2026-11-01), and one recent reading per channel for /v1/live.
+const std::vector<TimeRange>& Stretches() {
+  static const std::vector<TimeRange> kStretches = {
+      {At("2026-03-07T00:00:00-06:00"), At("2026-03-10T00:00:00-05:00")},
+      {At("2026-10-31T00:00:00-05:00"), At("2026-11-03T00:00:00-06:00")},
+  };
+  return kStretches;
+}
+
+// Energy the readings ending in (from, to] carry, Wh: the truth for a bucket-aligned range.
+double TruthWh(int channel, UnixMs from_ms, UnixMs to_ms) {
+  double wh = 0;
+  for (UnixMs end = from_ms + kReadingMs; end <= to_ms; end += kReadingMs) {
+    wh += Watts(channel, end) * kReadingMs / 3.6e6;
+  }
+  return wh;
+}
+
+struct ApiFixture {
+  explicit ApiFixture(bool anonymous_status_routes = false)
+      : config(SiteConfig(dir)), stats({"panel"}), server(config.http) {
+    db = std::move(Database::Open(config.storage).value());
+    series = RegisterSeries(*db, config).value();
+    WriterOptions options;
+    // A fixed clock shortly after the data, so raw retention never reaches it.
+    options.clock = [] { return At("2026-11-10T00:00:00Z"); };
+    writer = std::move(ReadingWriter::Start(config, db.get(), series, options).value());
+    ReadingBatch batch;
+    for (const TimeRange& stretch : Stretches()) {
+      for (UnixMs end = stretch.start_ms + kReadingMs; end <= stretch.end_ms; end += kReadingMs) {
+        for (int channel = 0; channel < 4; ++channel) batch.readings.push_back(
+            Reading(channel, end, Watts(channel, end)));
+      }
+    }
+    const UnixMs now = std::chrono::duration_cast<std::chrono::milliseconds>(
+                           std::chrono::system_clock::now().time_since_epoch())
+                           .count();
+    for (int channel = 0; channel < 4; ++channel) {
+      batch.readings.push_back(Reading(channel, now - 1000, 100.0 * (channel + 1)));
+    }
+    std::promise<Status> stored;
+    writer->Submit(std::move(batch), [&](const Status& s) { stored.set_value(s); });
+    REQUIRE(stored.get_future().get().ok());
+    writer->Stop();  // writes the open rollup buckets; Health() stays OK
+
+    Result<std::unique_ptr<UdpReceiver>> udp = UdpReceiver::Open(config.ingest);
+    REQUIRE(udp.ok());
+    receiver = std::move(udp).value();
+    tokens_db = std::move(Database::Open(config.storage).value());
+    admin = Issue("admin");
+    viewer = Issue("viewer");
+    unit_a = Issue("unit:a");
+    unit_b = Issue("unit:b");
+    AddApiRoutes(server, ApiContext{&config, &series, config.storage.path, writer.get(), &stats,
+                                    receiver.get(), anonymous_status_routes});
+    REQUIRE(server.Start().ok());
+    client = std::make_unique<httplib::Client>("127.0.0.1", server.port());
+    client->set_read_timeout(10);
+  }
+
+  static ChannelReading Reading(int channel, UnixMs end_ms, double watts) {
+    ChannelReading r;
+    r.channel = channel;
+    r.end_ms = end_ms;
+    r.duration_ms = static_cast<std::int32_t>(kReadingMs);
+    r.real_watts = watts;
+    r.apparent_va = watts * 1.1;
+    r.volts = 120;
+    r.amps = r.apparent_va / 120;
+    return r;
+  }
+
+  std::string Issue(const char* scope) {
+    Result<IssuedToken> issued = IssueToken(*tokens_db, *ParseScope(scope), "test", 0);
+    REQUIRE(issued.ok());
+    return issued->token;
+  }
+
+  httplib::Result Get(const std::string& path, const std::string& token,
+                      const std::string& accept = "") {
+    httplib::Headers headers;
+    if (!token.empty()) headers.emplace("Authorization", "Bearer " + token);
+    if (!accept.empty()) headers.emplace("Accept", accept);
+    return client->Get(path.c_str(), headers);
+  }
+
+  json GetJson(const std::string& path, const std::string& token) {
+    httplib::Result result = Get(path, token);
+    REQUIRE(result);
+    REQUIRE_MESSAGE(result->status == 200, (path + ": " + result->body));
+    return json::parse(result->body);
+  }
+
+  // Rollup energy of `circuits` over [from, to) straight from storage, Wh.
+  double RollupWh(const std::vector<int>& circuits, UnixMs from_ms, UnixMs to_ms) {
+    auto reader = std::move(Database::OpenReader(config.storage.path).value());
+    double wh = 0;
+    for (int circuit : circuits) {
+      for (const CircuitBucket& bucket :
+           ReadCircuitBuckets(*reader, series, circuit, from_ms, to_ms).value()) {
+        wh += bucket.real_wh;
+      }
+    }
+    return wh;
+  }
+
+  testing::TempDir dir;
+  Config config;
+  IngestStats stats;
+  std::unique_ptr<Database> db;
+  SeriesMap series;
+  std::unique_ptr<ReadingWriter> writer;
+  std::unique_ptr<UdpReceiver> receiver;
+  std::unique_ptr<Database> tokens_db;  // as `ampledger token` would write
+  std::string admin, viewer, unit_a, unit_b;
+  HttpServer server;
+  std::unique_ptr<httplib::Client> client;
+};
+
+struct AnonymousStatusFixture : ApiFixture {
+  AnonymousStatusFixture() : ApiFixture(/*anonymous_status_routes=*/true) {}
+};
+
+// A problem document (RFC 9457) whose status matches the response's.
+json ProblemOf(const httplib::Result& result) {
+  REQUIRE(result);
+  CHECK(result->get_header_value("Content-Type") == "application/problem+json");
+  json problem = json::parse(result->body);
+  CHECK(problem["status"] == result->status);
+  CHECK(problem["type"] == "about:blank");
+  return problem;
+}
+
+const std::string kSpringDay =
+    "from=2026-03-08T00:00:00-06:00&to=2026-03-09T00:00:00-05:00";
+const std::string kFallDay = "from=2026-11-01T00:00:00-05:00&to=2026-11-02T00:00:00-06:00";
+
+std::vector<std::string> Ids(const json& list) {
+  std::vector<std::string> ids;
+  for (const json& entry : list) ids.push_back(entry["id"]);
+  return ids;
+}
+
+TEST_SUITE("api") {
+  TEST_CASE_FIXTURE(ApiFixture, "authorization matrix: every route under every scope") {
+    struct Row {
+      std::string path;
+      int admin, viewer, unit_a, unit_b;  // expected status; no token is always 401
+    };
+    const std::string q = "?" + kSpringDay + "&step=day";
+    const std::vector<Row> rows = {
+        {"/v1/site", 200, 200, 404, 404},
+        {"/v1/nodes", 200, 200, 404, 404},
+        {"/metrics", 200, 200, 404, 404},
+        {"/v1/live", 200, 200, 200, 200},
+        {"/v1/circuits", 200, 200, 200, 200},
+        {"/v1/units", 200, 200, 200, 200},
+        {"/v1/circuits/a-heat/series" + q, 200, 200, 200, 404},
+        {"/v1/circuits/a-kitchen/series" + q, 200, 200, 200, 404},
+        {"/v1/circuits/b-heat/series" + q, 200, 200, 404, 200},
+        {"/v1/circuits/hall/series" + q, 200, 200, 404, 404},
+        {"/v1/units/a/series" + q, 200, 200, 200, 404},
+        {"/v1/units/b/series" + q, 200, 200, 404, 200},
+    };
+    for (const Row& row : rows) {
+      struct Case {
+        const char* scope;
+        const std::string& token;
+        int expected;
+      };
+      const Case cases[] = {{"admin", admin, row.admin}, {"viewer", viewer, row.viewer},
+                            {"unit:a", unit_a, row.unit_a}, {"unit:b", unit_b, row.unit_b}};
+      for (const auto& [scope, token, expected] : cases) {
+        CAPTURE(row.path);
+        CAPTURE(scope);
+        httplib::Result result = Get(row.path, token);
+        REQUIRE(result);
+        CHECK(result->status == expected);
+        if (expected == 404) {
+          // Hidden looks exactly like absent: the same problem as an unknown path or id.
+          json problem = ProblemOf(result);
+          const std::string detail = problem["detail"];
+          const bool series = row.path.find("/series") != std::string::npos;
+          CHECK(detail.rfind(series ? "no " : "no resource at ", 0) == 0);
+        }
+      }
+      httplib::Result anonymous = Get(row.path, "");
+      REQUIRE(anonymous);
+      CHECK(anonymous->status == 401);
+      CHECK(anonymous->get_header_value("WWW-Authenticate") == "Bearer realm=\"ampledger\"");
+      ProblemOf(anonymous);
+      httplib::Result forged = Get(row.path, admin + "x");
+      REQUIRE(forged);
+      CHECK(forged->status == 401);
+      CHECK(forged->get_header_value("WWW-Authenticate") ==
+            "Bearer realm=\"ampledger\", error=\"invalid_token\"");
+    }
+    // Health needs no token: a supervisor asks it.
+    httplib::Result health = Get("/v1/health", "");
+    REQUIRE(health);
+    CHECK(health->status == 200);
+    // A unit token's 404 on a site-wide route reads like a path that does not exist.
+    CHECK(ProblemOf(Get("/v1/site", unit_a))["detail"] == "no resource at /v1/site");
+    CHECK(ProblemOf(Get("/v1/nowhere", unit_a))["detail"] == "no resource at /v1/nowhere");
+    CHECK(ProblemOf(Get("/v1/circuits/b-heat/series" + q, unit_a))["detail"] ==
+          "no circuit \"b-heat\"");
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "lists and live values are filtered by scope") {
+    using Strings = std::vector<std::string>;
+    CHECK(Ids(GetJson("/v1/circuits", admin)["circuits"]) ==
+          Strings{"a-heat", "a-kitchen", "b-heat", "hall"});
+    CHECK(Ids(GetJson("/v1/circuits", viewer)["circuits"]).size() == 4);
+    CHECK(Ids(GetJson("/v1/circuits", unit_a)["circuits"]) == Strings{"a-heat", "a-kitchen"});
+    CHECK(Ids(GetJson("/v1/circuits", unit_b)["circuits"]) == Strings{"b-heat"});
+    CHECK(GetJson("/v1/circuits", admin)["circuits"][3]["unit"].is_null());
+    CHECK(Ids(GetJson("/v1/units", admin)["units"]) == Strings{"a", "b"});
+    CHECK(Ids(GetJson("/v1/units", unit_b)["units"]) == Strings{"b"});
+
+    json live = GetJson("/v1/live", unit_a);
+    CHECK(Ids(live["circuits"]) == Strings{"a-heat", "a-kitchen"});
+    CHECK(live["circuits"][0]["watts"] == doctest::Approx(100));
+    CHECK(live["circuits"][1]["watts"] == doctest::Approx(400));
+    CHECK(live["units"]["watts"] == "W");
+    CHECK(Ids(GetJson("/v1/live", unit_b)["circuits"]) == Strings{"b-heat"});
+    CHECK(Ids(GetJson("/v1/live", viewer)["circuits"]).size() == 4);
+  }
+
+  TEST_CASE_FIXTURE(AnonymousStatusFixture, "anonymous_status_routes opens only /v1/nodes and "
+                                            "/v1/live, and only to requests without a token") {
+    CHECK(Get("/v1/nodes", "")->status == 200);
+    CHECK(Ids(GetJson("/v1/live", "")["circuits"]).size() == 4);
+    CHECK(Ids(GetJson("/v1/live", unit_b)["circuits"]) == std::vector<std::string>{"b-heat"});
+    CHECK(Get("/v1/nodes", unit_b)->status == 404);
+    CHECK(Get("/v1/live", admin + "x")->status == 401);
+    for (const char* path : {"/v1/site", "/metrics", "/v1/circuits", "/v1/units",
+                             "/v1/circuits/hall/series?from=2026-03-08T00:00:00-06:00&"
+                             "to=2026-03-09T00:00:00-05:00"}) {
+      CAPTURE(path);
+      CHECK(Get(path, "")->status == 401);
+    }
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "a revoked token stops working at its next request") {
+    Result<IssuedToken> issued = IssueToken(*tokens_db, *ParseScope("viewer"), "spare", 0);
+    REQUIRE(issued.ok());
+    CHECK(Get("/v1/site", issued->token)->status == 200);
+    REQUIRE(RevokeToken(*tokens_db, issued->id, 1).ok());
+    CHECK(Get("/v1/site", issued->token)->status == 401);
+    CHECK(Get("/v1/site", admin)->status == 200);
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "bad inputs give the right status and a problem; the server "
+                                "stays healthy") {
+    struct Bad {
+      std::string path;
+      int status;
+      std::string detail_has;
+    };
+    const std::string a = "/v1/circuits/a-heat/series?";
+    const std::vector<Bad> table = {
+        {a + "to=2026-03-09T00:00:00-05:00", 400, "\"from\": required"},
+        {a + "from=2026-03-08&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-03-08T00:00:00&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-13-08T00:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-02-30T00:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-03-08T24:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-03-08T00:00:00-06:00&to=tomorrow", 400, "\"to\""},
+        {a + "from=2026-03-09T00:00:00-05:00&to=2026-03-08T00:00:00-06:00", 400,
+         "\"to\": must be later"},
+        {a + "from=2026-03-09T00:00:00-05:00&to=2026-03-09T00:00:00-05:00", 400,
+         "\"to\": must be later"},
+        {a + "from=2026-03-08T00:07:00-06:00&to=2026-03-09T00:00:00-05:00&step=hour", 400,
+         "\"from\": is not the start of a local hour"},
+        {a + kSpringDay + "&step=week", 400, "\"step\""},
+        {a + kSpringDay + "&format=xml", 400, "\"format\""},
+        {a + kSpringDay + "&limit=5", 400, "\"limit\""},
+        {a + kSpringDay + "&step=hour&step=day", 400, "given more than once"},
+        // Huge ranges: over the points limit, or raw beyond its window.
+        {a + "from=2020-01-01T00:00:00-06:00&to=2026-01-01T00:00:00-06:00&step=15m", 400,
+         "use a coarser step"},
+        {a + "from=2000-01-01T00:00:00-06:00&to=2026-01-01T00:00:00-06:00&step=hour", 400,
+         "use a coarser step"},
+        {a + "from=2026-03-07T00:00:00-06:00&to=2026-03-10T00:00:00-05:00&step=raw", 400,
+         "raw readings are served for at most"},
+        {"/v1/units/a/series?" + kSpringDay + "&step=raw", 400, "\"step\""},
+        // Unknown ids, and ids made of SQL metacharacters, are simply not there.
+        {"/v1/circuits/nope/series?" + kSpringDay, 404, "no circuit"},
+        {"/v1/units/zz/series?" + kSpringDay, 404, "no unit"},
+        {"/v1/circuits/a-heat%27%20OR%20%271%27=%271/series?" + kSpringDay, 404, "no circuit"},
+        {"/v1/circuits/x%27%3B%20DROP%20TABLE%20rollup%3B--/series?" + kSpringDay, 404,
+         "no circuit"},
+        {"/v1/units/%22%20OR%201=1%20--/series?" + kSpringDay, 404, "no unit"},
+        {a + "from=2026-03-08T00:00:00-06:00%27%3B--&to=2026-03-09T00:00:00-05:00", 400,
+         "\"from\""},
+        {"/v1/circuits/a-heat", 404, "no resource"},
+    };
+    for (const Bad& bad : table) {
+      CAPTURE(bad.path);
+      httplib::Result result = Get(bad.path, admin);
+      REQUIRE(result);
+      CHECK(result->status == bad.status);
+      const std::string detail = ProblemOf(result)["detail"];
+      CHECK_MESSAGE(detail.find(bad.detail_has) != std::string::npos, detail);
+    }
+    // An oversize body is refused before it is read.
+    httplib::Headers headers = {{"Authorization", "Bearer " + admin}};
+    httplib::Result oversize =
+        client->Post("/v1/circuits", headers, std::string(kMaxRequestBodyBytes + 1, 'x'),
+                     "application/json");
+    REQUIRE(oversize);
+    CHECK(oversize->status == 413);
+    ProblemOf(oversize);
+    httplib::Result wrong_method = client->Post("/v1/live", headers, "{}", "application/json");
+    REQUIRE(wrong_method);
+    CHECK(wrong_method->status == 405);
+    ProblemOf(wrong_method);
+
+    client = std::make_unique<httplib::Client>("127.0.0.1", server.port());
+    CHECK(Get("/v1/health", "")->status == 200);
+    json series = GetJson("/v1/circuits/a-heat/series?" + kSpringDay + "&step=day", admin);
+    CHECK(series["points"][0]["energy_wh"].get<double>() > 0);  // rollup table still there
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "series energy equals the storage rollups; DST days have 23 "
+                                "and 25 local hours") {
+    const UnixMs spring_from = At("2026-03-08T00:00:00-06:00");
+    const UnixMs spring_to = At("2026-03-09T00:00:00-05:00");
+    json spring = GetJson("/v1/circuits/a-heat/series?" + kSpringDay + "&step=hour", viewer);
+    CHECK(spring["time_zone"] == "America/Chicago");
+    CHECK(spring["units"]["energy_wh"] == "Wh");
+    CHECK(spring["units"]["mean_w"] == "W");
+    CHECK(spring["units"]["total_energy_kwh"] == "kWh");
+    CHECK(spring["from"] == "2026-03-08T00:00:00-06:00");
+    CHECK(spring["to"] == "2026-03-09T00:00:00-05:00");
+    REQUIRE(spring["points"].size() == 23);
+    CHECK(spring["points"][1]["start"] == "2026-03-08T01:00:00-06:00");
+    CHECK(spring["points"][2]["start"] == "2026-03-08T03:00:00-05:00");
+    double sum_wh = 0;
+    for (const json& point : spring["points"]) {
+      sum_wh += point["energy_wh"].get<double>();
+      CHECK(point["coverage"] == doctest::Approx(1));
+      CHECK(point["quality"] == "measured");
+    }
+    const double rollup_wh = RollupWh({0}, spring_from, spring_to);
+    CHECK(sum_wh == doctest::Approx(rollup_wh).epsilon(1e-12));
+    CHECK(sum_wh == doctest::Approx(TruthWh(0, spring_from, spring_to)).epsilon(1e-9));
+    CHECK(spring["total_energy_kwh"].get<double>() * 1000 ==
+          doctest::Approx(rollup_wh).epsilon(1e-12));
+    // The same day as one point, as 92 quarter hours, and per hour mean power.
+    json day = GetJson("/v1/circuits/a-heat/series?" + kSpringDay + "&step=day", viewer);
+    REQUIRE(day["points"].size() == 1);
+    CHECK(day["points"][0]["energy_wh"] == doctest::Approx(rollup_wh).epsilon(1e-12));
+    CHECK(day["points"][0]["mean_w"] == doctest::Approx(rollup_wh / 23).epsilon(1e-12));
+    CHECK(GetJson("/v1/circuits/a-heat/series?" + kSpringDay + "&step=15m", viewer)["points"]
+              .size() == 92);
+
+    // Fall back: 25 hours; the unit's series is the sum of its own two circuits.
+    const UnixMs fall_from = At("2026-11-01T00:00:00-05:00");
+    const UnixMs fall_to = At("2026-11-02T00:00:00-06:00");
+    json fall = GetJson("/v1/units/a/series?" + kFallDay + "&step=hour", unit_a);
+    CHECK(fall["unit"] == "a");
+    CHECK(fall["circuits"] == json::array({"a-heat", "a-kitchen"}));
+    REQUIRE(fall["points"].size() == 25);
+    CHECK(fall["points"][1]["start"] == "2026-11-01T01:00:00-05:00");
+    CHECK(fall["points"][2]["start"] == "2026-11-01T01:00:00-06:00");
+    double unit_wh = 0;
+    for (const json& point : fall["points"]) unit_wh += point["energy_wh"].get<double>();
+    CHECK(unit_wh == doctest::Approx(RollupWh({0, 1}, fall_from, fall_to)).epsilon(1e-12));
+    CHECK(unit_wh == doctest::Approx(TruthWh(0, fall_from, fall_to) +
+                                     TruthWh(3, fall_from, fall_to))
+                         .epsilon(1e-9));
+
+    // A month with no data for part of it: coverage says how much was measured.
+    json month = GetJson("/v1/circuits/b-heat/series?from=2026-03-01T00:00:00-06:00&"
+                         "to=2026-04-01T00:00:00-05:00&step=month",
+                         admin);
+    REQUIRE(month["points"].size() == 1);
+    // 3 local days (71 hours) of a 743-hour month.
+    CHECK(month["points"][0]["coverage"] == doctest::Approx(71.0 / 743.0).epsilon(1e-9));
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "series as CSV (RFC 4180) and raw readings") {
+    const std::string path = "/v1/circuits/a-heat/series?" + kSpringDay + "&step=hour";
+    httplib::Result csv = Get(path + "&format=csv", viewer);
+    REQUIRE(csv);
+    CHECK(csv->status == 200);
+    CHECK(csv->get_header_value("Content-Type").rfind("text/csv", 0) == 0);
+    CHECK(csv->get_header_value("Ampledger-Time-Zone") == "America/Chicago");
+    const std::string& body = csv->body;
+    // RFC 4180 section 2: CRLF line breaks, an optional header line, the same field count.
+    CHECK(body.rfind("start,end,energy_wh,apparent_energy_vah,mean_w,min_w,max_w,coverage,"
+                     "quality\r\n",
+                     0) == 0);
+    int lines = 0;
+    for (size_t at = body.find("\r\n"); at != std::string::npos; at = body.find("\r\n", at + 2)) {
+      ++lines;
+    }
+    CHECK(lines == 24);
+    CHECK(body.find("\n2026-03-08T03:00:00-05:00,2026-03-08T04:00:00-05:00,") !=
+          std::string::npos);
+    httplib::Result accepted = Get(path, viewer, "text/csv");
+    REQUIRE(accepted);
+    CHECK(accepted->body == body);
+
+    json raw = GetJson("/v1/circuits/a-heat/series?from=2026-03-08T01:00:00-06:00&"
+                       "to=2026-03-08T03:00:00-05:00&step=raw",
+                       unit_a);
+    REQUIRE(raw["points"].size() == 12);  // 5-minute readings ending in (from, to]
+    CHECK(raw["points"][0]["channel"] == "panel/ct1");
+    CHECK(raw["points"][0]["end"] == "2026-03-08T01:05:00-06:00");
+    CHECK(raw["points"][11]["end"] == "2026-03-08T03:00:00-05:00");
+    CHECK(raw["points"][0]["real_w"] ==
+          doctest::Approx(Watts(0, At("2026-03-08T01:05:00-06:00"))));
+    CHECK(raw["units"]["real_w"] == "W");
+  }
+}
+
+}  // namespace
+}  // namespace ampledger

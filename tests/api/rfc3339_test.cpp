@@ -1,0 +1,56 @@
+// tests/api/rfc3339_test.cpp
+#include "api/rfc3339.h"
+
+#include <doctest/doctest.h>
+
+namespace ampledger {
+namespace {
+
+TEST_SUITE("api") {
+  TEST_CASE("ParseRfc3339 reads the examples of RFC 3339 section 5.8") {
+    // Expected instants computed with Python's datetime (a general-purpose reference library).
+    CHECK(ParseRfc3339("1985-04-12T23:20:50.52Z") == 482196050520);
+    CHECK(ParseRfc3339("1996-12-19T16:39:57-08:00") == 851042397000);
+    CHECK(ParseRfc3339("1937-01-01T12:00:27.87+00:20") == -1041337172130);
+    // Section 5.8's leap second is a valid RFC 3339 time, but UnixMs has no leap seconds.
+    CHECK_FALSE(ParseRfc3339("1990-12-31T23:59:60Z").has_value());
+    // Section 5.6 allows lower-case t and z.
+    CHECK(ParseRfc3339("1985-04-12t23:20:50.52z") == 482196050520);
+  }
+
+  TEST_CASE("ParseRfc3339 refuses what is not a full date-time with offset") {
+    for (const char* bad :
+         {"", "2026-03-08", "2026-03-08T00:00:00", "2026-03-08 00:00:00Z", "2026-3-08T00:00:00Z",
+          "2026-13-01T00:00:00Z", "2026-02-29T00:00:00Z", "2026-04-31T00:00:00Z",
+          "2026-03-08T24:00:00Z", "2026-03-08T00:60:00Z", "2026-03-08T00:00:00+24:00",
+          "2026-03-08T00:00:00+05", "2026-03-08T00:00:00.Z", "2026-03-08T00:00:00.1234Z",
+          "2026-03-08T00:00:00Z ", " 2026-03-08T00:00:00Z", "2026-03-08T00:00:00Zjunk",
+          "1772953200000", "2026-03-08T00:00:00-06:00'; DROP TABLE rollup;--"}) {
+      CAPTURE(bad);
+      CHECK_FALSE(ParseRfc3339(bad).has_value());
+    }
+    CHECK(ParseRfc3339("2024-02-29T00:00:00Z").has_value());  // a leap day
+  }
+
+  TEST_CASE("FormatLocalRfc3339 writes the site's wall clock and offset") {
+    LocalTime chicago = LocalTime::ForZone("America/Chicago").value();
+    // IANA tz: America/Chicago is UTC-6 in winter, UTC-5 from 2026-03-08 02:00 local (US
+    // Energy Policy Act of 2005: second Sunday of March).
+    CHECK(FormatLocalRfc3339(chicago, *ParseRfc3339("2026-03-08T06:00:00Z")) ==
+          "2026-03-08T00:00:00-06:00");
+    CHECK(FormatLocalRfc3339(chicago, *ParseRfc3339("2026-03-08T08:00:00Z")) ==
+          "2026-03-08T03:00:00-05:00");
+    CHECK(FormatLocalRfc3339(chicago, *ParseRfc3339("2026-03-08T08:00:01.250Z")) ==
+          "2026-03-08T03:00:01.250-05:00");
+    LocalTime utc = LocalTime::ForZone("UTC").value();
+    CHECK(FormatLocalRfc3339(utc, 0) == "1970-01-01T00:00:00Z");
+    LocalTime kolkata = LocalTime::ForZone("Asia/Kolkata").value();  // IANA tz: UTC+05:30
+    CHECK(FormatLocalRfc3339(kolkata, 0) == "1970-01-01T05:30:00+05:30");
+    for (const char* text : {"2026-11-01T01:30:00-05:00", "2026-11-01T01:30:00-06:00"}) {
+      CHECK(FormatLocalRfc3339(chicago, *ParseRfc3339(text)) == text);  // the repeated hour
+    }
+  }
+}
+
+}  // namespace
+}  // namespace ampledger
