@@ -189,10 +189,11 @@ struct ApiFixture {
     auto reader = std::move(Database::OpenReader(config.storage.path).value());
     double wh = 0;
     for (int circuit : circuits) {
-      for (const CircuitBucket& bucket :
-           ReadCircuitBuckets(*reader, series, circuit, from_ms, to_ms).value()) {
-        wh += bucket.real_wh;
-      }
+      // Kept in a variable: a range-for over .value() of a temporary would dangle.
+      Result<std::vector<CircuitBucket>> buckets =
+          ReadCircuitBuckets(*reader, series, circuit, from_ms, to_ms);
+      REQUIRE(buckets.ok());
+      for (const CircuitBucket& bucket : *buckets) wh += bucket.real_wh;
     }
     return wh;
   }
