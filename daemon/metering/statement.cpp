@@ -116,7 +116,7 @@ class StatementBuilder {
   void MakeSlices() {
     std::vector<double> own = OwnKwh();
     for (std::size_t u = 0; u < config_.units.size(); ++u) {
-      Statement statement;
+      UnitStatement statement;
       statement.unit_id = config_.units[u].id;
       statement.unit_name = config_.units[u].name.empty() ? config_.units[u].id
                                                           : config_.units[u].name;
@@ -206,7 +206,7 @@ class StatementBuilder {
       gathered[key].second += weight_sum > 0 ? weights[k] / weight_sum : 0;
     }
     for (const auto& [key, part] : gathered) {
-      Statement& statement = result_.units[key.first];
+      UnitStatement& statement = result_.units[key.first];
       auto section = static_cast<StatementSection>(key.second.first);
       statement.total += part.first;
       double quantity = line.quantity * part.second;
@@ -229,7 +229,7 @@ class StatementBuilder {
     running_site_ += line.amount;
   }
 
-  StatementLine& SharedLine(Statement& statement, StatementSection section, int shared,
+  StatementLine& SharedLine(UnitStatement& statement, StatementSection section, int shared,
                             int recipient) {
     std::string name;
     std::string method;
@@ -265,13 +265,13 @@ class StatementBuilder {
     for (const BillLine& line : bill.lines) SplitLine(line, quantum);
     if (!bill.each_line_rounded) RoundTotals();
     // Own lines first, then shared, remainder and common: stable by section.
-    for (Statement& statement : result_.units) {
+    for (UnitStatement& statement : result_.units) {
       std::stable_sort(statement.lines.begin(), statement.lines.end(),
                        [](const StatementLine& a, const StatementLine& b) {
                          return a.section < b.section;
                        });
     }
-    Statement& owner = result_.units.back();
+    UnitStatement& owner = result_.units.back();
     if (owner.lines.empty() && owner.total == 0) result_.units.pop_back();
   }
 
@@ -279,7 +279,7 @@ class StatementBuilder {
   void RoundTotals() {
     std::vector<double> fractions;
     Micros floors = 0;
-    for (Statement& statement : result_.units) {
+    for (UnitStatement& statement : result_.units) {
       Micros floor = statement.total >= 0 ? statement.total / kMicrosPerCent * kMicrosPerCent
                                           : -((-statement.total + kMicrosPerCent - 1) /
                                               kMicrosPerCent * kMicrosPerCent);
@@ -289,7 +289,7 @@ class StatementBuilder {
     }
     std::vector<Micros> extra = Apportion(result_.site.total - floors, kMicrosPerCent, fractions);
     for (std::size_t k = 0; k < extra.size(); ++k) {
-      Statement& statement = result_.units[k];
+      UnitStatement& statement = result_.units[k];
       statement.total += extra[k];
       Micros lines = 0;
       for (const StatementLine& line : statement.lines) lines += line.amount;

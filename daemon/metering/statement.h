@@ -73,7 +73,7 @@ struct StatementLine {
   Micros amount = 0;
 };
 
-struct Statement {
+struct UnitStatement {
   std::string unit_id;  // "" = circuits of no unit
   std::string unit_name;
   std::vector<StatementLine> lines;
@@ -84,7 +84,7 @@ struct Statement {
 
 struct CycleStatements {
   Bill site;
-  std::vector<Statement> units;  // config order; then the owner's part if not empty
+  std::vector<UnitStatement> units;  // config order; then the owner's part if not empty
   double submetered_import_kwh = 0;
   std::optional<double> main_meter_kwh;
   std::optional<double> submetered_ratio;  // submetered import / main meter

@@ -73,7 +73,7 @@ std::string RenderBillText(const Bill& bill, const std::string& site_name,
   return out;
 }
 
-std::string RenderStatementText(const CycleStatements& cycle, const Statement& statement,
+std::string RenderStatementText(const CycleStatements& cycle, const UnitStatement& statement,
                                 const std::string& site_name, const std::string& currency) {
   std::string who = statement.unit_id.empty() ? statement.unit_name
                                               : statement.unit_name + " (" + statement.unit_id + ")";
@@ -97,7 +97,7 @@ std::string RenderStatementText(const CycleStatements& cycle, const Statement& s
   return out + "\n" + cycle.notice + "\n";
 }
 
-std::string RenderStatementCsv(const Statement& statement) {
+std::string RenderStatementCsv(const UnitStatement& statement) {
   std::string out = "section,description,method,quantity,unit,unit_price,amount\r\n";
   for (const StatementLine& line : statement.lines) {
     out += std::string(SectionName(line.section)) + "," + CsvField(line.description) + "," +

@@ -13,7 +13,7 @@ namespace ampledger {
 // A fixed-width table: heading (site, unit, cycle, currency), one row per line (what,
 // method, quantity, unit, unit price, amount), the total, coverage, the submetered /
 // main-meter ratio when known, and the tenant-billing notice.
-std::string RenderStatementText(const CycleStatements& cycle, const Statement& statement,
+std::string RenderStatementText(const CycleStatements& cycle, const UnitStatement& statement,
                                 const std::string& site_name, const std::string& currency);
 
 // The site bill as the same table.
@@ -22,6 +22,6 @@ std::string RenderBillText(const Bill& bill, const std::string& site_name,
 
 // CSV with a header row: section,description,method,quantity,unit,unit_price,amount; a last
 // row "total" carries the statement's total. Money as decimals ("12.34", prices exact).
-std::string RenderStatementCsv(const Statement& statement);
+std::string RenderStatementCsv(const UnitStatement& statement);
 
 }  // namespace ampledger

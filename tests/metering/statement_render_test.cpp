@@ -6,8 +6,8 @@
 namespace ampledger {
 namespace {
 
-Statement Sample() {
-  Statement statement;
+UnitStatement Sample() {
+  UnitStatement statement;
   statement.unit_id = "upper";
   statement.unit_name = "Upper flat";
   statement.lines = {

@@ -41,7 +41,7 @@ CircuitSeries Series(const std::string& id, const BillingCycle& cycle,
 
 Micros Sum(const CycleStatements& statements) {
   Micros sum = 0;
-  for (const Statement& statement : statements.units) {
+  for (const UnitStatement& statement : statements.units) {
     Micros lines = 0;
     for (const StatementLine& line : statement.lines) lines += line.amount;
     CHECK(lines == statement.total);
@@ -76,7 +76,7 @@ TEST_SUITE("metering") {
     // 31-day cycle with a 23-hour day: 743 h x (0.4 + 0.04) + 31 laundry kWh.
     CHECK(out.submetered_import_kwh == doctest::Approx(743 * 4 * 0.41 + 31));
     CHECK(out.remainder_kwh == doctest::Approx(1500 - out.submetered_import_kwh));
-    const Statement& upper = out.units[0];
+    const UnitStatement& upper = out.units[0];
     bool shared_seen = false, remainder_seen = false, fixed_seen = false;
     for (const StatementLine& line : upper.lines) {
       if (line.section == StatementSection::kShared) {
@@ -137,7 +137,7 @@ TEST_SUITE("metering") {
       for (const BillLine& line : result->site.lines) {
         if (!line.IsCredit()) CHECK(line.amount >= 0);
       }
-      for (const Statement& statement : result->units) {
+      for (const UnitStatement& statement : result->units) {
         for (const StatementLine& line : statement.lines) {
           bool credit = line.description.rfind("Rebate", 0) == 0 ||
                         line.description == "Export credit" ||
