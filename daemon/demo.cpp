@@ -6,7 +6,10 @@
 #include <filesystem>
 #include <fstream>
 
+#include "api/token.h"
+#include "config/wall_clock.h"
 #include "daemon/demo_config.h"
+#include "storage/database.h"
 
 namespace ampledger {
 
@@ -50,9 +53,23 @@ Result<Config> PrepareDemo(const DemoOptions& options) {
   config->ingest.resend_horizon_seconds = 30 * 86400;
   config->http.listen = options.http_listen;
   spdlog::info("demo site \"{}\": config and database in {}", config->site.name, *dir);
-  spdlog::info("try: curl http://{}/v1/live (and /v1/site, /v1/nodes); Ctrl-C stops the demo",
-               options.http_listen);
   return config;
+}
+
+}  // namespace ampledger
+
+namespace ampledger {
+
+Status AnnounceDemoToken(const Config& config, const std::string& http_listen) {
+  Result<std::unique_ptr<Database>> db = Database::Open(config.storage);
+  if (!db.ok()) return db.status();
+  Result<IssuedToken> token =
+      IssueToken(**db, Scope{Scope::Kind::kViewer, ""}, "demo", WallClockMs());
+  if (!token.ok()) return token.status();
+  spdlog::info("try: curl -H 'Authorization: Bearer {}' http://{}/v1/live (also /v1/site, "
+               "/v1/nodes, /v1/circuits); Ctrl-C stops the demo",
+               token->token, http_listen);
+  return Status::Ok();
 }
 
 }  // namespace ampledger

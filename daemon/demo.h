@@ -19,4 +19,8 @@ struct DemoOptions {
 // database path lands in that folder), with the listen addresses of `options`.
 Result<Config> PrepareDemo(const DemoOptions& options);
 
+// Stores a new viewer token for the demo's API (the daemon must have created the database)
+// and logs how to use it.
+Status AnnounceDemoToken(const Config& config, const std::string& http_listen);
+
 }  // namespace ampledger

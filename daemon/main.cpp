@@ -119,7 +119,10 @@ int Demo(const DemoOptions& options) {
   }
   Service service(*config);
   DemoSimulator simulator(*config, options.udp_listen, DemoSimulatorOptions{});
-  int exit_code = RunUntilSignalled(service, [&] { return simulator.Start(); });
+  int exit_code = RunUntilSignalled(service, [&] {
+    Status announced = AnnounceDemoToken(*config, options.http_listen);
+    return announced.ok() ? simulator.Start() : announced;
+  });
   simulator.Stop();
   return exit_code;
 }

@@ -96,10 +96,8 @@ class ServiceImpl {
                                            &notifier_);
     if (Status restored = ingest_->RestoreState(*node_states); !restored.ok()) return restored;
 
-    // anonymous_status_routes: tests/daemon and the demo still read /v1/nodes and /v1/live
-    // without a token; set false once they send one.
     AddApiRoutes(http_, ApiContext{&config_, &series_, config_.storage.path, writer_.get(),
-                                   &stats_, receiver_.get(), /*anonymous_status_routes=*/true});
+                                   &stats_, receiver_.get()});
     return http_.Start();
   }
 
