@@ -4,6 +4,10 @@
 #include <sqlite3.h>
 
 #include <fstream>
+
+#include "api/token.h"
+#include "config/wall_clock.h"
+#include "storage/database.h"
 #include <random>
 #include <sstream>
 #include <stdexcept>
@@ -75,6 +79,15 @@ std::int64_t QueryInt(const std::string& path, const std::string& sql) {
 double QueryDouble(const std::string& path, const std::string& sql) {
   return QueryFirst<double>(path, sql,
                             [](sqlite3_stmt* row) { return sqlite3_column_double(row, 0); });
+}
+
+std::string ViewerToken(const Config& config) {
+  Result<std::unique_ptr<Database>> db = Database::Open(config.storage);
+  REQUIRE(db.ok());
+  Result<IssuedToken> token =
+      IssueToken(**db, Scope{Scope::Kind::kViewer, ""}, "test", WallClockMs());
+  REQUIRE(token.ok());
+  return token->token;
 }
 
 }  // namespace ampledger::testing

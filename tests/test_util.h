@@ -7,6 +7,8 @@
 #include <filesystem>
 #include <string>
 
+#include "config/config.h"
+
 namespace ampledger::testing {
 
 // A fresh folder under the system temp dir, removed with its contents on destruction.
@@ -38,6 +40,9 @@ std::string ReadFile(const std::filesystem::path& path);
 // read-only (the daemon may still have it open). Fails the test on any error.
 std::int64_t QueryInt(const std::string& path, const std::string& sql);
 double QueryDouble(const std::string& path, const std::string& sql);
+
+// A new viewer token for the API of a service running on `config`'s database.
+std::string ViewerToken(const Config& config);
 void WriteFile(const std::filesystem::path& path, const std::string& text);
 
 }  // namespace ampledger::testing

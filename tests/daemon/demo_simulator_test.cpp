@@ -10,23 +10,11 @@
 
 #include "daemon/demo.h"
 #include "daemon/service.h"
-#include "api/token.h"
 #include "config/wall_clock.h"
-#include "storage/database.h"
 #include "test_util.h"
 
 namespace ampledger {
 namespace {
-
-// A viewer token for the running service's API, stored through a connection of our own.
-std::string ViewerToken(const Config& config) {
-  Result<std::unique_ptr<Database>> db = Database::Open(config.storage);
-  REQUIRE(db.ok());
-  Result<IssuedToken> token =
-      IssueToken(**db, Scope{Scope::Kind::kViewer, ""}, "test", WallClockMs());
-  REQUIRE(token.ok());
-  return token->token;
-}
 
 TEST_SUITE("daemon") {
   TEST_CASE("the demo's simulated nodes backfill history and report live through the daemon") {
@@ -49,7 +37,7 @@ TEST_SUITE("daemon") {
     // One day of 60-second intervals from each of the three nodes, then live reports.
     const std::int64_t history = 3 * 1440;
     httplib::Client api("127.0.0.1", service.http_port());
-    api.set_bearer_token_auth(ViewerToken(*config));
+    api.set_bearer_token_auth(testing::ViewerToken(*config));
     nlohmann::json nodes;
     for (int i = 0; i < 300; ++i) {
       auto answer = api.Get("/v1/nodes");

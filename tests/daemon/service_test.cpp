@@ -13,8 +13,6 @@
 #include "config/wall_clock.h"
 #include "daemon/ingest/node_client.h"
 #include "daemon/ingest/udp_receiver.h"
-#include "api/token.h"
-#include "storage/database.h"
 #include "test_util.h"
 
 namespace ampledger {
@@ -85,16 +83,6 @@ void DrainAcks(NodeClient& client) {
   }
 }
 
-// A viewer token for the running service's API, stored through a connection of our own.
-std::string ViewerToken(const Config& config) {
-  Result<std::unique_ptr<Database>> db = Database::Open(config.storage);
-  REQUIRE(db.ok());
-  Result<IssuedToken> token =
-      IssueToken(**db, Scope{Scope::Kind::kViewer, ""}, "test", WallClockMs());
-  REQUIRE(token.ok());
-  return token->token;
-}
-
 TEST_SUITE("daemon") {
   TEST_CASE("kWh survive lost datagrams, resends, duplicates and a node reboot") {
     testing::TempDir dir;
@@ -160,7 +148,7 @@ TEST_SUITE("daemon") {
     CHECK((*forged)->PollAcks(300) == 0);
     CHECK((*replayer)->PollAcks(300) == 0);
     httplib::Client api("127.0.0.1", service.http_port());
-    api.set_bearer_token_auth(ViewerToken(config));
+    api.set_bearer_token_auth(testing::ViewerToken(config));
     {
       int garbage = ::socket(AF_INET, SOCK_DGRAM, 0);
       PeerAddress to = ResolveAddress("127.0.0.1:" + std::to_string(service.udp_port())).value();
