@@ -1,7 +1,9 @@
 #include "daemon/ingest_loop.h"
 
+#include <pthread.h>
 #include <spdlog/spdlog.h>
 
+#include <algorithm>
 #include <chrono>
 
 #include "config/wall_clock.h"
@@ -56,6 +58,7 @@ Status IngestLoop::RestoreState(const std::vector<NodeState>& states) {
 }
 
 void IngestLoop::Run(const std::atomic<bool>& stopping) {
+  pthread_setname_np(pthread_self(), "ampl-ingest");  // shown by top -H and perf
   using Clock = std::chrono::steady_clock;
   auto interval = notifier_->watchdog_interval();
   Clock::time_point next_ping = Clock::now();
@@ -65,6 +68,7 @@ void IngestLoop::Run(const std::atomic<bool>& stopping) {
     if (!received.ok()) {
       refusal_log_.Warn("receiving datagrams: " + received.status().ToString());
     }
+    Submit();
     stats_->kernel_drops.store(receiver_->kernel_drops(), std::memory_order_relaxed);
     if (interval && Clock::now() >= next_ping) {
       (void)notifier_->Watchdog();
@@ -117,8 +121,6 @@ void IngestLoop::Handle(const ReceivedDatagram& datagram, UnixMs now) {
     return;
   }
 
-  ReadingBatch batch;
-  batch.readings = std::move(readings).value();
   {
     std::lock_guard<std::mutex> lock(mu_);
     if (node.pending.Check(pack.boot, pack.seq) != ReplayVerdict::kFresh) {
@@ -127,27 +129,72 @@ void IngestLoop::Handle(const ReceivedDatagram& datagram, UnixMs now) {
       return;
     }
     node.pending.Update(pack.boot, pack.seq);
-    batch.node_states.push_back(NodeState{pack.node, node.pending.Serialize()});
   }
-  const std::size_t count = batch.readings.size();
-  writer_->Submit(std::move(batch), [this, &node, decoded = std::move(decoded).value(),
-                                     from = datagram.from, count, now](const Status& status) {
-    const NodePack& pack = decoded.pack;
-    if (!status.ok()) {
-      stats_->write_failures.fetch_add(1, std::memory_order_relaxed);
-      std::lock_guard<std::mutex> lock(mu_);
-      node.pending = node.committed;  // forget what is in flight; resends are idempotent
-      return;
+  std::vector<ChannelReading>& batch_readings = open_.batch.readings;
+  batch_readings.insert(batch_readings.end(), readings->begin(), readings->end());
+  open_.accepted.push_back(Accepted{&node, pack.boot, pack.seq, pack.interval_ms,
+                                    decoded->encoding, datagram.from, now,
+                                    readings->size()});
+  if (std::find(open_.nodes.begin(), open_.nodes.end(), &node) == open_.nodes.end()) {
+    open_.nodes.push_back(&node);
+  }
+}
+
+void IngestLoop::Submit() {
+  if (open_.accepted.empty()) return;
+  Submission submission = std::move(open_);
+  open_ = Submission();
+  {
+    // Each node's window as it stands now covers exactly what is submitted so far; the
+    // writer commits in submission order, so it is stored with the last of it.
+    std::lock_guard<std::mutex> lock(mu_);
+    for (const NodeEntry* node : submission.nodes) {
+      submission.batch.node_states.push_back(
+          NodeState{node->config->id, node->pending.Serialize()});
     }
-    {
-      std::lock_guard<std::mutex> lock(mu_);
-      node.committed.Update(pack.boot, pack.seq);
+  }
+  writer_->Submit(std::move(submission.batch),
+                  [this, accepted = std::move(submission.accepted)](const Status& status) {
+                    Completed(accepted, status);
+                  });
+}
+
+void IngestLoop::Completed(const std::vector<Accepted>& accepted, const Status& status) {
+  if (!status.ok()) {
+    stats_->write_failures.fetch_add(accepted.size(), std::memory_order_relaxed);
+    std::lock_guard<std::mutex> lock(mu_);
+    // Forget what is in flight; resends are idempotent.
+    for (const Accepted& datagram : accepted) datagram.node->pending = datagram.node->committed;
+    return;
+  }
+  {
+    std::lock_guard<std::mutex> lock(mu_);
+    for (const Accepted& datagram : accepted) {
+      datagram.node->committed.Update(datagram.boot, datagram.seq);
     }
-    stats_->stored.fetch_add(1, std::memory_order_relaxed);
-    stats_->readings_stored.fetch_add(count, std::memory_order_relaxed);
-    stats_->NodeAccepted(pack.node, now, pack.interval_ms, pack.boot, pack.seq);
-    SendAck(node, decoded, from);
-  });
+  }
+  std::vector<OutgoingDatagram> acks;
+  acks.reserve(accepted.size());
+  std::size_t readings = 0;
+  for (const Accepted& datagram : accepted) {
+    const std::string& node = datagram.node->config->id;
+    readings += datagram.readings;
+    stats_->NodeAccepted(node, datagram.received_ms, datagram.interval_ms, datagram.boot,
+                         datagram.seq);
+    acks.push_back(OutgoingDatagram{
+        EncodeAck(Ack{node, datagram.boot, datagram.seq}, datagram.encoding, datagram.node->key),
+        datagram.from});
+  }
+  stats_->stored.fetch_add(accepted.size(), std::memory_order_relaxed);
+  stats_->readings_stored.fetch_add(readings, std::memory_order_relaxed);
+  const std::size_t sent = receiver_->SendAll(acks);
+  stats_->acks_sent.fetch_add(sent, std::memory_order_relaxed);
+  if (sent < acks.size()) {
+    stats_->ack_failures.fetch_add(acks.size() - sent, std::memory_order_relaxed);
+    refusal_log_.Warn(std::to_string(acks.size() - sent) + " of " +
+                      std::to_string(acks.size()) +
+                      " acknowledgements not sent (socket buffer full); the nodes will resend");
+  }
 }
 
 DecodeResult<std::vector<ChannelReading>> IngestLoop::Derive(const NodePack& pack) const {

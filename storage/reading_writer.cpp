@@ -1,7 +1,11 @@
 // storage/reading_writer.cpp
 #include "storage/reading_writer.h"
 
+#include <pthread.h>
+
 #include <algorithm>
+#include <map>
+#include <string_view>
 
 #include "storage/reading_table.h"
 
@@ -115,6 +119,7 @@ void ReadingWriter::Stop() {
 }
 
 void ReadingWriter::Run() {
+  pthread_setname_np(pthread_self(), "ampl-writer");  // shown by top -H and perf
   const auto batch_wait = std::chrono::milliseconds(storage_.batch_millis);
   const auto open_flush_every = std::chrono::milliseconds(options_.open_bucket_flush_ms);
   std::unique_lock<std::mutex> lock(mu_);
@@ -191,8 +196,19 @@ Status ReadingWriter::Commit(std::vector<Queued>& items, bool write_open) {
   rollups_->set_raw_kept_from_ms(RetentionCutoff());
   return Transaction(
       [&] {
+        // A node's state only moves forward from batch to batch, so of the states in this
+        // transaction only each node's last one needs writing.
+        std::map<std::string_view, std::string_view> latest_state;
         for (const Queued& item : items) {
-          if (Status s = WriteOne(item.batch); !s.ok()) return s;
+          if (Status s = WriteReadings(item.batch.readings); !s.ok()) return s;
+          for (const NodeState& state : item.batch.node_states) {
+            latest_state[state.node] = state.blob;
+          }
+        }
+        for (const auto& [node, blob] : latest_state) {
+          upsert_node_state_.Bind(1, node);
+          upsert_node_state_.BindBlob(2, blob);
+          if (Status s = upsert_node_state_.Run("store node state"); !s.ok()) return s;
         }
         Status s = rollups_->Finish(write_open);
         assert(rollups_->CheckInvariants());
@@ -201,17 +217,12 @@ Status ReadingWriter::Commit(std::vector<Queued>& items, bool write_open) {
       "commit readings");
 }
 
-Status ReadingWriter::WriteOne(const ReadingBatch& batch) {
+Status ReadingWriter::WriteReadings(const std::vector<ChannelReading>& readings) {
   sqlite3* handle = db_->handle();
-  for (const ChannelReading& reading : batch.readings) {
+  for (const ChannelReading& reading : readings) {
     BindReading(insert_reading_, reading, series_.channel_ids[reading.channel]);
     if (Status s = insert_reading_.Run("insert reading"); !s.ok()) return s;
     if (sqlite3_changes(handle) > 0) rollups_->Add(reading);  // 0: stored already
-  }
-  for (const NodeState& state : batch.node_states) {
-    upsert_node_state_.Bind(1, state.node);
-    upsert_node_state_.BindBlob(2, state.blob);
-    if (Status s = upsert_node_state_.Run("store node state"); !s.ok()) return s;
   }
   return Status();
 }

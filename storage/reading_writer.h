@@ -42,7 +42,8 @@ struct NodeState {
   std::string blob;  // opaque to storage
 };
 
-// What one datagram (or several) adds; written in one transaction.
+// What one datagram (or several) adds; written in one transaction. A later batch's state for
+// a node replaces an earlier one's.
 struct ReadingBatch {
   std::vector<ChannelReading> readings;  // ChannelReading::channel: flat channel index
   std::vector<NodeState> node_states;    // upserted by node
@@ -99,7 +100,7 @@ class ReadingWriter {
   void Run();  // the writer thread
   // Writes `items` in one transaction; the writer thread only.
   Status Commit(std::vector<Queued>& items, bool write_open);
-  Status WriteOne(const ReadingBatch& batch);
+  Status WriteReadings(const std::vector<ChannelReading>& readings);
   Status DeleteOldReadings(bool* more);
   UnixMs RetentionCutoff() const;  // raw readings ending before this are deleted
   Status Transaction(const std::function<Status()>& body, std::string_view what);

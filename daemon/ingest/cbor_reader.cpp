@@ -1,6 +1,8 @@
 // daemon/ingest/cbor_reader.cpp
 #include "daemon/ingest/cbor_reader.h"
 
+#include <algorithm>
+
 #include <cmath>
 #include <cstring>
 #include <limits>
@@ -122,7 +124,14 @@ class Decoder {
 
   Status Container(int per_entry, std::uint64_t count, bool indefinite,
                    std::vector<CborItem>* items, int depth) {
-    // Never reserve from `count`: it is attacker-controlled. Each item takes >= 1 byte.
+    // `count` is attacker-controlled: reserve no more than a typical SenML pack needs and
+    // the bytes left could hold (each item takes at least one).
+    constexpr std::uint64_t kMaxReserve = 64;
+    if (!indefinite) {
+      const std::uint64_t left = in_.size() - pos_;
+      items->reserve(static_cast<std::size_t>(
+          per_entry * std::min({count, left, kMaxReserve})));
+    }
     for (std::uint64_t i = 0; indefinite || i < count; ++i) {
       if (indefinite) {
         if (pos_ >= in_.size()) return Fail("truncated");

@@ -42,7 +42,7 @@ Refusal Fail(RefusalReason reason, const SenmlRecord& record, const std::string&
   return Refuse(reason, "\"" + record.name + "\": " + detail);
 }
 
-std::optional<Quantity> QuantityFromName(const std::string& name) {
+std::optional<Quantity> QuantityFromName(std::string_view name) {
   for (const auto& [text, quantity] : kQuantityNames) {
     if (name == text) return quantity;
   }
@@ -109,13 +109,14 @@ class Interpreter {
     if (slash == std::string::npos) {
       return Fail(RefusalReason::kUnknownRecord, record, "expected <node>/<record>");
     }
-    const std::string node = record.name.substr(0, slash);
-    const std::string rest = record.name.substr(slash + 1);
+    const std::string_view name = record.name;
+    const std::string_view node = name.substr(0, slash);
+    const std::string_view rest = name.substr(slash + 1);
     if (out_.node.empty()) {
       out_.node = node;
     } else if (node != out_.node) {
-      return Fail(RefusalReason::kMixedNodes, record, "node \"" + node + "\" after \"" +
-                                                          out_.node + "\"");
+      return Fail(RefusalReason::kMixedNodes, record, "node \"" + std::string(node) +
+                                                          "\" after \"" + out_.node + "\"");
     }
     if (rest == "boot" || rest == "seq") return Counter(record, rest == "boot");
     const std::size_t split = rest.find('/');
@@ -125,7 +126,8 @@ class Interpreter {
     const std::optional<Quantity> quantity = QuantityFromName(rest.substr(split + 1));
     if (!quantity) {
       return Fail(RefusalReason::kUnknownRecord, record,
-                  "unknown quantity \"" + rest.substr(split + 1) + "\" (i, v, p, s, pf, f)");
+                  "unknown quantity \"" + std::string(rest.substr(split + 1)) +
+                      "\" (i, v, p, s, pf, f)");
     }
     return Measurement(record, rest.substr(0, split), *quantity);
   }
@@ -164,7 +166,7 @@ class Interpreter {
     return ms;
   }
 
-  std::optional<Refusal> Measurement(const SenmlRecord& record, const std::string& channel,
+  std::optional<Refusal> Measurement(const SenmlRecord& record, std::string_view channel,
                                      Quantity quantity) {
     if (record.string_value || record.bool_value || record.data_value) {
       return Fail(RefusalReason::kMalformed, record, "needs a numeric v, not vs/vb/vd");
@@ -187,9 +189,11 @@ class Interpreter {
     if (std::optional<Refusal> clock = Clock(record)) return clock;
 
     const auto end_ms = static_cast<UnixMs>(std::llround(record.time * 1000));
-    PendingSample& pending = samples_[{end_ms, channel}];
-    pending.sample.channel = channel;
-    pending.sample.end_ms = end_ms;
+    PendingSample& pending = samples_[{end_ms, std::string(channel)}];
+    if (pending.sample.channel.empty()) {
+      pending.sample.channel = channel;
+      pending.sample.end_ms = end_ms;
+    }
     if (record.update_time) {
       std::optional<std::int32_t> ms = DurationMs(*record.update_time);
       if (!ms) return Fail(RefusalReason::kOutOfRange, record, "ut outside (0, 86400] s");

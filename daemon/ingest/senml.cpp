@@ -202,19 +202,20 @@ DecodeResult<SenmlPack> ResolveSenml(const std::vector<RawSenmlRecord>& records,
   BaseState base;
   for (std::size_t index = 0; index < records.size(); ++index) {
     const RawSenmlRecord& r = records[index];
-    const std::string where = "record " + std::to_string(index + 1) + ": ";
-    if (auto refusal = CheckFinite(r)) return Malformed(where + refusal->detail);
+    // Only refusals use it: built on the error path, never per accepted record.
+    const auto where = [index] { return "record " + std::to_string(index + 1) + ": "; };
+    if (auto refusal = CheckFinite(r)) return Malformed(where() + refusal->detail);
     if (r[L::kBaseVersion]) {
       const SenmlField& v = *r[L::kBaseVersion];
-      if (!v.integer || v.number < 0) return Malformed(where + "bver must be an unsigned integer");
+      if (!v.integer || v.number < 0) return Malformed(where() + "bver must be an unsigned integer");
       if (!IsUnderstoodVersion(v.number)) {
         return Refuse(RefusalReason::kUnsupported,
-                      "SenML: " + where + "version " + std::to_string(v.number) +
+                      "SenML: " + where() + "version " + std::to_string(v.number) +
                           " is newer than this reader understands (10, 26)");
       }
       // RFC 8428 section 4.4: all records of a pack have the same version.
       if (version && *version != static_cast<int>(v.number)) {
-        return Malformed(where + "bver differs from an earlier record");
+        return Malformed(where() + "bver differs from an earlier record");
       }
       version = static_cast<int>(v.number);
     }
@@ -230,7 +231,7 @@ DecodeResult<SenmlPack> ResolveSenml(const std::vector<RawSenmlRecord>& records,
     SenmlRecord out;
     out.name = base.name + (r[L::kName] ? r[L::kName]->text : "");
     if (!IsValidSenmlName(out.name)) {
-      return Malformed(where + "name \"" + out.name + "\" breaks RFC 8428 section 4.5.1");
+      return Malformed(where() + "name \"" + out.name + "\" breaks RFC 8428 section 4.5.1");
     }
     out.unit = r[L::kUnit] ? r[L::kUnit]->text : base.unit;
     int value_fields = 0;
@@ -249,23 +250,26 @@ DecodeResult<SenmlPack> ResolveSenml(const std::vector<RawSenmlRecord>& records,
     if (r[L::kSum] || base.sum) {
       out.sum = base.sum.value_or(0) + (r[L::kSum] ? r[L::kSum]->number : 0);
     }
-    if (value_fields > 1) return Malformed(where + "more than one value field");
-    if (value_fields == 0 && !out.sum) return Malformed(where + "no value and no sum");
+    if (value_fields > 1) return Malformed(where() + "more than one value field");
+    if (value_fields == 0 && !out.sum) return Malformed(where() + "no value and no sum");
     out.time = base.time + (r[L::kTime] ? r[L::kTime]->number : 0);
     if (out.time < kSenmlRelativeTimeLimit) out.time += now_seconds;
     if (r[L::kUpdateTime]) {
-      if (r[L::kUpdateTime]->number < 0) return Malformed(where + "negative ut");
+      if (r[L::kUpdateTime]->number < 0) return Malformed(where() + "negative ut");
       out.update_time = r[L::kUpdateTime]->number;
     }
     if (!std::isfinite(out.time) || (out.value && !std::isfinite(*out.value)) ||
         (out.sum && !std::isfinite(*out.sum))) {
-      return Malformed(where + "a resolved number is not finite");
+      return Malformed(where() + "a resolved number is not finite");
     }
     pack.records.push_back(std::move(out));
   }
   if (version) pack.version = *version;
-  std::stable_sort(pack.records.begin(), pack.records.end(),
-                   [](const SenmlRecord& a, const SenmlRecord& b) { return a.time < b.time; });
+  auto earlier = [](const SenmlRecord& a, const SenmlRecord& b) { return a.time < b.time; };
+  // Nodes send their records in time order; sorting is for those that do not.
+  if (!std::is_sorted(pack.records.begin(), pack.records.end(), earlier)) {
+    std::stable_sort(pack.records.begin(), pack.records.end(), earlier);
+  }
   return pack;
 }
 
@@ -281,6 +285,7 @@ DecodeResult<SenmlPack> DecodeSenmlCbor(std::string_view bytes, double now_secon
   }
   if (top->type != CborItem::Type::kArray) return Malformed("the pack is not an array");
   std::vector<RawSenmlRecord> raw;
+  raw.reserve(top->items.size());  // bounded: each came from at least one byte of `bytes`
   for (std::size_t i = 0; i < top->items.size(); ++i) {
     DecodeResult<RawSenmlRecord> record = CborRecord(top->items[i]);
     if (!record.ok()) {

@@ -5,6 +5,7 @@
 #include <poll.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cerrno>
 #include <cstring>
 
@@ -142,6 +143,35 @@ Status UdpReceiver::SendTo(std::span<const std::uint8_t> bytes, const PeerAddres
     return Errno("sendto " + to.ToString());
   }
   return Status::Ok();
+}
+
+std::size_t UdpReceiver::SendAll(std::span<const OutgoingDatagram> datagrams) {
+  std::size_t next = 0;
+  std::size_t delivered = 0;
+  while (next < datagrams.size()) {
+    mmsghdr messages[kBatch] = {};
+    iovec vectors[kBatch];
+    const std::size_t count = std::min<std::size_t>(kBatch, datagrams.size() - next);
+    for (std::size_t i = 0; i < count; ++i) {
+      const OutgoingDatagram& datagram = datagrams[next + i];
+      vectors[i] = {const_cast<char*>(datagram.bytes.data()), datagram.bytes.size()};
+      msghdr& header = messages[i].msg_hdr;
+      header.msg_iov = &vectors[i];
+      header.msg_iovlen = 1;
+      header.msg_name = const_cast<sockaddr_storage*>(&datagram.to.address);
+      header.msg_namelen = datagram.to.length;
+    }
+    int sent = ::sendmmsg(fd_, messages, static_cast<unsigned>(count), MSG_DONTWAIT);
+    if (sent > 0) {
+      next += static_cast<std::size_t>(sent);
+      delivered += static_cast<std::size_t>(sent);
+    } else if (errno == EAGAIN || errno == EWOULDBLOCK) {
+      break;  // the send buffer is full: the rest would fail too
+    } else {
+      ++next;  // this one cannot be sent (its address, say); the others may
+    }
+  }
+  return delivered;
 }
 
 }  // namespace ampledger

@@ -2,7 +2,8 @@
 // The UDP socket sensor nodes send to: IPv4 or IPv6, address from [ingest] listen. Receives in
 // batches with recvmmsg(MSG_WAITFORONE), reports datagrams larger than the size limit as
 // oversize (they are truncated by the kernel, never parsed) and keeps the kernel's drop count
-// (SO_RXQ_OVFL). One thread calls Receive(); SendTo() may be called from any thread.
+// (SO_RXQ_OVFL). One thread calls Receive(); SendTo() and SendAll() may be called from any
+// thread.
 #pragma once
 
 #include <netinet/in.h>
@@ -28,6 +29,12 @@ struct PeerAddress {
   std::string ToString() const;  // "192.0.2.7:4717" or "[2001:db8::7]:4717"
 };
 
+// A datagram to send (an acknowledgement) and where to.
+struct OutgoingDatagram {
+  std::string bytes;
+  PeerAddress to;
+};
+
 struct ReceivedDatagram {
   std::span<const std::uint8_t> bytes;  // valid only during the handler call
   bool oversize = false;                // longer than max_datagram_bytes; `bytes` is cut
@@ -48,6 +55,11 @@ class UdpReceiver {
 
   // Sends one datagram (an acknowledgement). Fails with Unavailable if the socket buffer is full.
   Status SendTo(std::span<const std::uint8_t> bytes, const PeerAddress& to);
+
+  // Sends `datagrams` with as few system calls as sendmmsg allows. Returns how many were sent.
+  // Once the socket buffer is full the rest are not sent; one that fails otherwise (its
+  // address, say) is skipped.
+  std::size_t SendAll(std::span<const OutgoingDatagram> datagrams);
 
   // Datagrams the kernel dropped because our receive buffer was full, since Open().
   std::uint64_t kernel_drops() const { return kernel_drops_.load(std::memory_order_relaxed); }
