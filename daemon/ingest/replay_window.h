@@ -1,16 +1,20 @@
 // daemon/ingest/replay_window.h
 // One node's anti-replay state: the sliding-window method of RFC 4303 section 3.4.3 over
-// (boot, seq). The right edge is the highest seq stored in the current boot; a bitmap marks
-// which of the kWindowSize seqs ending there were stored.
+// (boot, seq). Per boot, the right edge is the highest seq stored and a bitmap marks which of
+// the kWindowSize seqs ending there were stored. The window of the boot before the current
+// one is kept too, so that a node that restarted with packs still unacknowledged (kept in its
+// flash, say) can resend them under their old boot and have them stored once.
 //
 //   verdict of Check(boot, seq)                 what the daemon does
 //   ----------------------------------------   -------------------------------------------
 //   kFresh      boot > current, or seq right    store; after the writer reports it durable,
-//               of the edge, or unseen inside   Update(boot, seq), then acknowledge
-//   kDuplicate  seq inside the window, marked   store nothing; acknowledge again (it was
-//                                               stored, only the ack was lost)
-//   kTooOld     seq left of the window          refuse (reason replay), no ack
-//   kOldBoot    boot < current boot             refuse (reason replay), no ack
+//               of its boot's edge, or unseen   Update(boot, seq), then acknowledge
+//               inside its boot's window
+//   kDuplicate  seq inside its boot's window,   store nothing; acknowledge again (it was
+//               marked                          stored, only the ack was lost)
+//   kTooOld     seq left of its boot's window   refuse (reason replay), no ack
+//   kOldBoot    boot older than the current     refuse (reason replay), no ack
+//               and the previous one
 //
 // Check() does not change anything; Update() is called only after the datagram's readings
 // are durable, so a mark always means "stored". Serialize() gives the blob the storage writer
@@ -46,15 +50,17 @@ class ReplayWindow {
 
   ReplayVerdict Check(std::uint32_t boot, std::uint32_t seq) const;
 
-  // Marks (boot, seq) stored. A higher boot starts a new window; a seq right of the edge
-  // slides it. Does nothing for a pair Check() calls kTooOld or kOldBoot.
+  // Marks (boot, seq) stored. A higher boot starts a new window and keeps the current one as
+  // the previous boot's; a seq right of its boot's edge slides that window. Does nothing for
+  // a pair Check() calls kTooOld or kOldBoot.
   void Update(std::uint32_t boot, std::uint32_t seq);
 
-  bool empty() const { return !has_edge_; }
-  std::uint32_t boot() const { return boot_; }
-  std::uint32_t highest_seq() const { return edge_; }
+  bool empty() const { return !current_.has_edge; }
+  std::uint32_t boot() const { return current_.boot; }
+  std::uint32_t highest_seq() const { return current_.edge; }
 
-  // A versioned binary blob, and back. Deserialize: Corruption if the blob is not one of ours.
+  // A versioned binary blob, and back. Deserialize reads this version and the one before it
+  // (which had no previous boot); Corruption if the blob is not one of ours.
   std::string Serialize() const;
   static Result<ReplayWindow> Deserialize(std::string_view blob);
 
@@ -63,16 +69,25 @@ class ReplayWindow {
  private:
   static constexpr std::size_t kWords = kWindowSize / 64;
 
-  bool Marked(std::uint32_t offset) const {  // offset = edge_ - seq, < kWindowSize
-    return (bits_[offset / 64] >> (offset % 64)) & 1u;
-  }
-  void Mark(std::uint32_t offset) { bits_[offset / 64] |= std::uint64_t{1} << (offset % 64); }
-  void Shift(std::uint32_t by);  // slide the edge right by `by`
+  // The window of one boot.
+  struct BootWindow {
+    bool has_edge = false;
+    std::uint32_t boot = 0;
+    std::uint32_t edge = 0;                   // highest seq stored in `boot`
+    std::array<std::uint64_t, kWords> bits{};  // bit k: seq edge - k was stored
 
-  bool has_edge_ = false;
-  std::uint32_t boot_ = 0;
-  std::uint32_t edge_ = 0;                   // highest seq stored in boot_
-  std::array<std::uint64_t, kWords> bits_{};  // bit k: seq edge_ - k was stored
+    ReplayVerdict Check(std::uint32_t seq) const;
+    void Update(std::uint32_t seq);  // `seq` must be fresh or a duplicate
+    bool Marked(std::uint32_t offset) const {  // offset = edge - seq, < kWindowSize
+      return (bits[offset / 64] >> (offset % 64)) & 1u;
+    }
+    void Mark(std::uint32_t offset) { bits[offset / 64] |= std::uint64_t{1} << (offset % 64); }
+    void Shift(std::uint32_t by);  // slide the edge right by `by`
+    bool CheckInvariants() const;
+  };
+
+  BootWindow current_;
+  BootWindow previous_;  // has_edge only once a second boot was seen
 };
 
 }  // namespace ampledger

@@ -76,7 +76,7 @@ TEST_CASE("advances by every shift amount keep exactly the marks they should") {
   }
 }
 
-TEST_CASE("a higher boot resets the window; a lower boot is refused") {
+TEST_CASE("a higher boot starts a new window; the boot before it is kept, older ones refused") {
   ReplayWindow w;
   w.Update(3, 9000);
   CHECK(w.Check(4, 0) == ReplayVerdict::kFresh);
@@ -85,7 +85,33 @@ TEST_CASE("a higher boot resets the window; a lower boot is refused") {
   CHECK(w.boot() == 4);
   CHECK(w.highest_seq() == 0);
   CHECK(w.Check(4, 0) == ReplayVerdict::kDuplicate);
-  CHECK(w.Check(3, 9001) == ReplayVerdict::kOldBoot);
+  CHECK(w.Check(4, 1) == ReplayVerdict::kFresh);
+  CHECK(w.Check(2, 9999) == ReplayVerdict::kOldBoot);
+  CHECK(w.CheckInvariants());
+}
+
+TEST_CASE("packs of the previous boot resent after a restart are stored once") {
+  ReplayWindow w;
+  w.Update(3, 2000);
+  w.Update(3, 1998);  // 1999 was lost before the node restarted
+  w.Update(4, 0);
+  CHECK(w.Check(3, 2000) == ReplayVerdict::kDuplicate);
+  CHECK(w.Check(3, 1998) == ReplayVerdict::kDuplicate);
+  CHECK(w.Check(3, 1999) == ReplayVerdict::kFresh);  // unacknowledged, resent
+  CHECK(w.Check(3, 2001) == ReplayVerdict::kFresh);  // sent just before the restart
+  CHECK(w.Check(3, 2000 - ReplayWindow::kWindowSize) == ReplayVerdict::kTooOld);
+  w.Update(3, 1999);
+  w.Update(3, 2001);
+  CHECK(w.Check(3, 1999) == ReplayVerdict::kDuplicate);
+  CHECK(w.Check(3, 2001) == ReplayVerdict::kDuplicate);
+  CHECK(w.boot() == 4);
+  CHECK(w.highest_seq() == 0);
+  CHECK(w.CheckInvariants());
+
+  // A further restart forgets boot 3.
+  w.Update(5, 0);
+  CHECK(w.Check(3, 2002) == ReplayVerdict::kOldBoot);
+  CHECK(w.Check(4, 0) == ReplayVerdict::kDuplicate);
   CHECK(w.Check(4, 1) == ReplayVerdict::kFresh);
 }
 
@@ -122,15 +148,39 @@ TEST_CASE("Check does not modify; serialize and deserialize keep every verdict")
     CHECK(back->Check(5, seq) == w.Check(5, seq));
   }
   CHECK(back->Check(4, 1) == ReplayVerdict::kOldBoot);
+
+  w.Update(6, 7);
+  Result<ReplayWindow> with_previous = ReplayWindow::Deserialize(w.Serialize());
+  REQUIRE(with_previous.ok());
+  for (std::uint32_t seq = 0; seq < 400; ++seq) {
+    CHECK(with_previous->Check(5, seq) == w.Check(5, seq));
+    CHECK(with_previous->Check(6, seq) == w.Check(6, seq));
+  }
   Result<ReplayWindow> empty = ReplayWindow::Deserialize(ReplayWindow().Serialize());
   REQUIRE(empty.ok());
   CHECK(empty->empty());
 }
 
+TEST_CASE("a version 1 blob (current boot only) still loads") {
+  ReplayWindow w;
+  w.Update(5, 300);
+  w.Update(5, 290);
+  // Version 1 is version 2's first window alone behind the version byte 1.
+  const std::string v2 = w.Serialize();
+  std::string v1 = v2.substr(0, 1 + (v2.size() - 1) / 2);
+  v1[0] = 1;
+  Result<ReplayWindow> back = ReplayWindow::Deserialize(v1);
+  REQUIRE(back.ok());
+  CHECK(back->Serialize() == v2);
+  CHECK(back->Check(5, 290) == ReplayVerdict::kDuplicate);
+  CHECK(back->Check(5, 291) == ReplayVerdict::kFresh);
+  CHECK(back->Check(4, 0) == ReplayVerdict::kOldBoot);
+}
+
 TEST_CASE("a blob that is not ours is Corruption") {
   CHECK(ReplayWindow::Deserialize("").status().code() == StatusCode::kCorruption);
   std::string blob = ReplayWindow().Serialize();
-  blob[0] = 2;
+  blob[0] = 3;
   CHECK(ReplayWindow::Deserialize(blob).status().code() == StatusCode::kCorruption);
   std::string marked_but_empty = ReplayWindow().Serialize();
   marked_but_empty.back() = 1;
