@@ -16,10 +16,10 @@ packages=(
   libtomlplusplus-dev libhowardhinnant-date-dev libssl-dev libcli11-dev
 )
 if [ "$action" = test ]; then
-  # Tools the test suite drives: clang for the fuzz target; systemd-analyze for the units;
+  # Tools the test suite drives: clang and xxd for the fuzz target; systemd-analyze for the units;
   # dpkg-dev and file (CPack's shared-library dependencies) and fakeroot (dpkg as non-root)
   # for the .deb test.
-  packages+=(clang systemd dpkg-dev file fakeroot)
+  packages+=(clang xxd systemd dpkg-dev file fakeroot)
 fi
 
 missing=()

@@ -2,7 +2,8 @@
 # tests/fuzz/run.sh [seconds] [extra libFuzzer flags...]
 # Builds the datagram fuzzer with clang++ (libFuzzer, AddressSanitizer, UBSan) from the ingest
 # sources, seeds it from tests/reference/data/senml and cose plus a few packs of our own
-# format, and runs it for `seconds` (default 60). Not part of the CMake build.
+# format, and runs it for `seconds` (default 60). Not part of the CMake build; ctest runs it for
+# 45 s as the entry fuzz-datagram (exit 77, skipped, without clang++ or xxd).
 # Needs: clang (Debian: apt-get install clang), libssl-dev, nlohmann-json3-dev, xxd.
 # Output: build-fuzz/ under the repo root (binary, corpus, crash-* files).
 set -eu
@@ -11,10 +12,16 @@ seconds=${1:-60}
 root=$(cd "$(dirname "$0")/../.." && pwd)
 out=${FUZZ_OUT:-$root/build-fuzz}
 cxx=${CXX_FUZZ:-clang++}
+for tool in "$cxx" xxd; do
+  command -v "$tool" > /dev/null || { echo "fuzz: $tool not found: skipped"; exit 77; }
+done
 mkdir -p "$out/corpus" "$out/seeds"
 
+# The decoder's sources: daemon/ingest without its sockets.
+sources=$(ls "$root"/daemon/ingest/*.cpp | grep -v -e udp_receiver -e node_client)
+# shellcheck disable=SC2086
 "$cxx" -std=c++20 -g -O1 -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined \
-  -I"$root" "$root"/daemon/ingest/*.cpp "$root/config/status.cpp" \
+  -I"$root" $sources "$root/config/status.cpp" \
   "$root/tests/fuzz/datagram_fuzz.cpp" -lcrypto -o "$out/datagram_fuzz"
 
 # Seeds: the RFC 8428 examples as they are, the COSE WG messages (output.cbor, hex -> bytes),
