@@ -13,8 +13,8 @@ binary="$build/daemon/ampledger"
 tools="$build/tests"
 
 case "$mode" in
-  short) kills=5 ;;
-  full) kills=20 ;;
+  short) kills=5 flood=100000 ;;
+  full) kills=20 flood=1000000 ;;
   *) echo "run.sh: mode must be short or full, got $mode" >&2; exit 2 ;;
 esac
 
@@ -35,6 +35,7 @@ run() {
 }
 
 run "$tools/kill_restart" "$binary" "$kills"
+run "$tools/hostile_flood" "$binary" "$flood"
 
 cat "$report"
 exit $failed
