@@ -13,8 +13,8 @@ binary="$build/daemon/ampledger"
 tools="$build/tests"
 
 case "$mode" in
-  short) kills=5 flood=100000 ;;
-  full) kills=20 flood=1000000 ;;
+  short) kills=5 flood=100000 many_seconds=20 ;;
+  full) kills=20 flood=1000000 many_seconds=120 ;;
   *) echo "run.sh: mode must be short or full, got $mode" >&2; exit 2 ;;
 esac
 
@@ -36,6 +36,7 @@ run() {
 
 run "$tools/kill_restart" "$binary" "$kills"
 run "$tools/hostile_flood" "$binary" "$flood"
+run "$tools/many_circuits" "$binary" "$many_seconds"
 
 cat "$report"
 exit $failed
