@@ -162,10 +162,17 @@ void IngestLoop::Submit() {
 void IngestLoop::Completed(const std::vector<Accepted>& accepted, const Status& status) {
   if (!status.ok()) {
     stats_->write_failures.fetch_add(accepted.size(), std::memory_order_relaxed);
+    storing_failed_.store(true, std::memory_order_relaxed);
+    storage_log_.Warn("not acknowledged: " + std::to_string(accepted.size()) +
+                      " datagrams could not be stored (the nodes will resend): " +
+                      status.ToString());
     std::lock_guard<std::mutex> lock(mu_);
     // Forget what is in flight; resends are idempotent.
     for (const Accepted& datagram : accepted) datagram.node->pending = datagram.node->committed;
     return;
+  }
+  if (storing_failed_.exchange(false, std::memory_order_relaxed)) {
+    spdlog::warn("storing readings again; acknowledgements resumed");
   }
   {
     std::lock_guard<std::mutex> lock(mu_);

@@ -95,6 +95,8 @@ class IngestLoop {
   IngestStats* const stats_;
   SdNotifier* const notifier_;
   RateLimitedLog refusal_log_{30};
+  RateLimitedLog storage_log_{6};            // its own budget: a flood must not hide it
+  std::atomic<bool> storing_failed_{false};  // since the last stored submission
 
   Submission open_;
 

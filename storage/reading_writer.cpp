@@ -142,7 +142,7 @@ void ReadingWriter::Run() {
         open_written_at_ms_ = rollups_->newest_ms();
       }
       lock.lock();
-      if (!status.ok() && error_.ok()) error_ = status;
+      RecordError(status, now);
       lock.unlock();
       for (Queued& item : items) item.done(status);
       lock.lock();
@@ -156,7 +156,7 @@ void ReadingWriter::Run() {
       Status status = Transaction([&] { return DeleteOldReadings(&more); }, "delete old readings");
       next_retention_ = more ? now : now + std::chrono::milliseconds(options_.retention_every_ms);
       lock.lock();
-      if (!status.ok() && error_.ok()) error_ = status;
+      RecordError(status, now);
       continue;
     }
     bool open_waiting = healthy && rollups_->HasUnwrittenOpenBuckets();
@@ -165,10 +165,29 @@ void ReadingWriter::Run() {
       Status status = Transaction([&] { return rollups_->Finish(true); }, "write rollups");
       next_open_flush_ = now + open_flush_every;
       lock.lock();
-      if (!status.ok() && error_.ok()) error_ = status;
+      RecordError(status, now);
+      continue;
+    }
+    if (!healthy && error_.code() == StatusCode::kUnavailable && now >= retry_at_) {
+      // A full disk (or a database another process holds locked) is not a broken one: the
+      // failed transaction was rolled back, which leaves the database as a crash at that
+      // moment would have, so the rollups are recovered from disk as Start() does and
+      // writing resumes. If the cause persists, the next commit fails again.
+      lock.unlock();
+      Result<std::unique_ptr<RollupBuilder>> rollups =
+          RollupBuilder::Create(db_, series_, max_gap_ms_);
+      lock.lock();
+      if (rollups.ok()) {
+        rollups_ = std::move(rollups.value());
+        open_written_at_ms_ = rollups_->newest_ms();
+        error_ = Status();
+      } else {
+        retry_at_ = now + std::chrono::milliseconds(options_.retry_after_ms);
+      }
       continue;
     }
     Clock::time_point wake_at = healthy ? next_retention_ : now + std::chrono::hours(1);
+    if (!healthy && error_.code() == StatusCode::kUnavailable) wake_at = retry_at_;
     if (open_waiting) wake_at = std::min(wake_at, next_open_flush_);
     if (!queue_.empty()) wake_at = std::min(wake_at, first_queued_at_ + batch_wait);
     wake_.wait_until(lock, wake_at);
@@ -178,8 +197,14 @@ void ReadingWriter::Run() {
   if (healthy && rollups_->HasUnwrittenOpenBuckets()) {
     Status status = Transaction([&] { return rollups_->Finish(true); }, "write rollups");
     lock.lock();
-    if (!status.ok() && error_.ok()) error_ = status;
+    RecordError(status, Clock::now());
   }
+}
+
+void ReadingWriter::RecordError(const Status& status, Clock::time_point now) {
+  if (status.ok() || !error_.ok()) return;
+  error_ = status;
+  retry_at_ = now + std::chrono::milliseconds(options_.retry_after_ms);
 }
 
 Status ReadingWriter::Transaction(const std::function<Status()>& body, std::string_view what) {

@@ -10,8 +10,10 @@
 //
 // Errors are sticky (leveldb's bg_error_): once a write or commit fails, its outcome on disk
 // is not known to the rollups held in memory, so the writer refuses every later batch with
-// that Status and Health() reports it until the process restarts. Nodes keep unacknowledged
-// readings and resend them.
+// that Status and Health() reports it. An Unavailable error (a full disk: SQLITE_FULL; a
+// database locked by another process) is retried after WriterOptions::retry_after_ms: the
+// rollups are recovered from disk as at start-up and writing resumes. Any other error stays
+// until the process restarts. Nodes keep unacknowledged readings and resend them.
 //
 // Between batches the writer deletes raw readings older than raw_retention_days in small
 // transactions (at most WriterOptions::retention_batch_rows each), so ingest never waits long.
@@ -60,6 +62,8 @@ struct WriterOptions {
   // far since the last write, or this much wall time has passed. They are always written when
   // their bucket closes and at Stop().
   int open_bucket_flush_ms = 60 * 1000;
+  // After an Unavailable error (disk full), how long until writing is tried again.
+  int retry_after_ms = 5 * 1000;
 };
 
 class ReadingWriter {
@@ -104,6 +108,8 @@ class ReadingWriter {
   Status DeleteOldReadings(bool* more);
   UnixMs RetentionCutoff() const;  // raw readings ending before this are deleted
   Status Transaction(const std::function<Status()>& body, std::string_view what);
+  // Keeps the first error and when to retry it; with mu_ held.
+  void RecordError(const Status& status, Clock::time_point now);
 
   // Set before the thread starts; read-only afterwards.
   Database* const db_;
@@ -127,7 +133,8 @@ class ReadingWriter {
   std::int64_t queued_rows_ = 0;       // GUARDED_BY(mu_)
   Clock::time_point first_queued_at_;  // GUARDED_BY(mu_): when queue_ last became non-empty
   bool stopping_ = false;              // GUARDED_BY(mu_)
-  Status error_;                       // GUARDED_BY(mu_): sticky
+  Status error_;                       // GUARDED_BY(mu_): sticky (Unavailable: until retry_at_)
+  Clock::time_point retry_at_;         // GUARDED_BY(mu_)
   std::thread thread_;                 // started by Start(), joined by Stop()
   std::once_flag stopped_;
 };

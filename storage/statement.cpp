@@ -14,6 +14,7 @@ Status SqliteStatus(sqlite3* db, int rc, const std::string& path, std::string_vi
       return Status::Corruption(std::move(message));
     case SQLITE_BUSY:
     case SQLITE_LOCKED:
+    case SQLITE_FULL:  // the disk (or max_page_count) is full: may succeed once space returns
       return Status::Unavailable(std::move(message));
     default:
       return Status::IOError(std::move(message));

@@ -61,16 +61,16 @@ inline std::string QueryText(const std::string& db_path, const std::string& sql)
 
 class ServedSite {
  public:
-  // `extra_toml` is appended to the config (e.g. an [ingest] key); the folder is removed
-  // with its contents when this is destroyed.
-  ServedSite(std::string binary, int nodes, std::string extra_ingest_toml = "")
-      : binary_(std::move(binary)), nodes_(nodes) {
+  // The database is `db_name` in the site's folder (e.g. in a subfolder the caller mounts);
+  // the folder is removed with its contents when this is destroyed.
+  ServedSite(std::string binary, int nodes, std::string db_name = "site.db")
+      : binary_(std::move(binary)), nodes_(nodes), db_name_(std::move(db_name)) {
     std::string pattern =
         (std::filesystem::temp_directory_path() / "ampledger-reliability-XXXXXX").string();
     if (::mkdtemp(pattern.data()) != nullptr) dir_ = pattern;
     udp_port_ = testing::FreeLoopbackPort(SOCK_DGRAM);
     http_port_ = testing::FreeLoopbackPort(SOCK_STREAM);
-    std::ofstream(config_path()) << ConfigToml(extra_ingest_toml);
+    std::ofstream(config_path()) << ConfigToml();
   }
   ~ServedSite() {
     if (pid_ > 0) Kill();
@@ -80,10 +80,10 @@ class ServedSite {
   ServedSite(const ServedSite&) = delete;
   ServedSite& operator=(const ServedSite&) = delete;
 
-  // Starts `ampledger serve`; true once /v1/health answers.
-  bool Start() {
+  // Starts `ampledger serve`; true once /v1/health answers 200 (or 503, `or_degraded`).
+  bool Start(bool or_degraded = false) {
     pid_ = testing::SpawnProcess({binary_, "serve", "--config", config_path()}, log_path());
-    return pid_ > 0 && testing::WaitHealthy(http_port_, std::chrono::seconds(20));
+    return pid_ > 0 && testing::WaitHealthy(http_port_, std::chrono::seconds(20), or_degraded);
   }
   void Kill() {
     ::kill(pid_, SIGKILL);
@@ -118,11 +118,11 @@ class ServedSite {
   int nodes() const { return nodes_; }
   std::string File(const std::string& name) const { return (dir_ / name).string(); }
   std::string config_path() const { return File("site.toml"); }
-  std::string db_path() const { return File("site.db"); }
+  std::string db_path() const { return File(db_name_); }
   std::string log_path() const { return File("serve.log"); }
 
  private:
-  std::string ConfigToml(const std::string& extra_ingest_toml) const {
+  std::string ConfigToml() const {
     std::string toml =
         "[site]\nname = \"Reliability run\"\ntime_zone = \"Europe/Vienna\"\n"
         "nominal_volts = [230]\ncurrency = \"EUR\"\n";
@@ -138,15 +138,16 @@ class ServedSite {
                 "\"\nchannels = [\"" + NodeId(n) + "/ct" + std::to_string(c) + "\"]\n";
       }
     }
-    toml += "\n[storage]\npath = \"site.db\"\n\n[ingest]\nlisten = \"127.0.0.1:" +
-            std::to_string(udp_port_) + "\"\n" + extra_ingest_toml +
-            "\n[http]\nlisten = \"127.0.0.1:" + std::to_string(http_port_) +
+    toml += "\n[storage]\npath = \"" + db_name_ + "\"\n\n[ingest]\nlisten = \"127.0.0.1:" +
+            std::to_string(udp_port_) + "\"\n\n[http]\nlisten = \"127.0.0.1:" +
+            std::to_string(http_port_) +
             "\"\n\n[log]\nlevel = \"warn\"\n";
     return toml;
   }
 
   std::string binary_;
   int nodes_;
+  std::string db_name_;
   std::filesystem::path dir_;
   int udp_port_ = 0;
   int http_port_ = 0;

@@ -244,6 +244,48 @@ TEST_CASE("errors are sticky: after a failed write nothing is acknowledged") {
   CHECK(store.Count("SELECT count(*) FROM reading") == 1);
 }
 
+TEST_CASE("a full disk is not sticky: once space returns, writing resumes") {
+  WriterOptions options;
+  options.retry_after_ms = 1000;
+  Store store(1, options);
+  CHECK(store.SubmitAndWait({{Reading(0, kT0, 1)}, {}}).ok());
+  Result<Statement> pages = store.db->Prepare("PRAGMA page_count");
+  REQUIRE(pages.ok());
+  REQUIRE(pages->Step("page_count").ok());
+  const std::int64_t page_count = pages->Int(0);
+  pages->Reset();
+  // max_page_count stands in for the disk: SQLite answers SQLITE_FULL either way. The writer
+  // thread is idle until its retry, so setting it here does not race with it.
+  REQUIRE(store.db->Exec("PRAGMA max_page_count = " + std::to_string(page_count + 2), "limit")
+              .ok());
+  ReadingBatch big;
+  for (int i = 1; i <= 5000; ++i) big.readings.push_back(Reading(0, kT0 + i * 1000, i));
+  Status failed = store.SubmitAndWait(big);
+  REQUIRE(failed.code() == StatusCode::kUnavailable);
+  REQUIRE(store.db->Exec("PRAGMA max_page_count = 1073741823", "space returns").ok());
+  CHECK(store.writer->Health().code() == StatusCode::kUnavailable);
+
+  for (int i = 0; i < 100 && !store.writer->Health().ok(); ++i) {
+    std::this_thread::sleep_for(std::chrono::milliseconds(50));
+  }
+  REQUIRE(store.writer->Health().ok());
+  CHECK(store.SubmitAndWait(big).ok());  // what the nodes resend
+  store.writer->Stop();
+  CHECK(store.Count("SELECT count(*) FROM reading") == 5001);
+  // The rollups recovered from disk carry on exactly: the hour's energy equals the readings'.
+  double expected_wh = 1.0 * 10 / 3600;  // the first reading: 1 W over its own 10 s
+  for (int i = 1; i <= 5000; ++i) expected_wh += i * 1.0 / 3600;  // i W over the 1 s since
+  CHECK(store.Count("SELECT count(*) FROM rollup") > 0);
+  Result<std::unique_ptr<Database>> reader = Database::OpenReader(store.config.storage.path);
+  REQUIRE(reader.ok());
+  auto buckets = ReadCircuitBuckets(**reader, store.series, 0, kT0 - kMsPerBucket,
+                                    kT0 + 10 * kMsPerBucket);
+  REQUIRE(buckets.ok());
+  double stored_wh = 0;
+  for (const CircuitBucket& b : buckets.value()) stored_wh += b.real_wh;
+  CHECK(stored_wh == doctest::Approx(expected_wh).epsilon(1e-9));
+}
+
 TEST_CASE("retention deletes only raw readings older than the limit; rollups stay") {
   const UnixMs now = kT0 + 500LL * 86'400'000;
   WriterOptions options;
