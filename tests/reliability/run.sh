@@ -13,8 +13,8 @@ binary="$build/daemon/ampledger"
 tools="$build/tests"
 
 case "$mode" in
-  short) kills=5 flood=100000 many_seconds=20 tmpfs_mib=3 ;;
-  full) kills=20 flood=1000000 many_seconds=120 tmpfs_mib=6 ;;
+  short) kills=5 flood=100000 many_seconds=20 tmpfs_mib=3 cuts=20 ;;
+  full) kills=20 flood=1000000 many_seconds=120 tmpfs_mib=6 cuts=100 ;;
   *) echo "run.sh: mode must be short or full, got $mode" >&2; exit 2 ;;
 esac
 
@@ -42,6 +42,7 @@ run "$tools/kill_restart" "$binary" "$kills"
 run "$tools/hostile_flood" "$binary" "$flood"
 run "$tools/many_circuits" "$binary" "$many_seconds"
 run "$tools/disk_full" "$binary" "$tmpfs_mib"
+run "$tools/power_cut" "$cuts"
 
 cat "$report"
 exit $failed
