@@ -22,11 +22,10 @@
 #include <string>
 #include <vector>
 
-#include "daemon/ingest/pack_encoder.h"
-
 #include "config/config.h"
 #include "daemon/ingest/datagram.h"
 #include "daemon/ingest/ingest_stats.h"
+#include "daemon/ingest/pack_encoder.h"
 #include "daemon/ingest/replay_window.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "daemon/logging.h"
