@@ -1,7 +1,10 @@
 // daemon/ingest/refusal.h
 // Why ingest refused a datagram. Every refusal has one reason, which the daemon counts under
 // RefusalName() (a stable, lower-case name used as a counter label), and a detail message for
-// the rate-limited log. DecodeResult<T> holds a decoded T or a Refusal. Plain values; any thread.
+// the rate-limited log. DecodeResult<T> holds a decoded T or a Refusal: Result<T> (status.h)
+// with the reason a refused datagram is counted under in place of a StatusCode, because a
+// refusal is an expected outcome of hostile or broken input, not a failure of ours; callers
+// that speak Status convert with Refusal::ToStatus(). Plain values; any thread.
 #pragma once
 
 #include <cassert>
