@@ -13,8 +13,8 @@ binary="$build/daemon/ampledger"
 tools="$build/tests"
 
 case "$mode" in
-  short) kills=5 flood=100000 many_seconds=20 tmpfs_mib=3 cuts=20 ;;
-  full) kills=20 flood=1000000 many_seconds=120 tmpfs_mib=6 cuts=100 ;;
+  short) kills=5 flood=100000 many_seconds=20 tmpfs_mib=3 cuts=20 days=7 ;;
+  full) kills=20 flood=1000000 many_seconds=120 tmpfs_mib=6 cuts=100 days=365 ;;
   *) echo "run.sh: mode must be short or full, got $mode" >&2; exit 2 ;;
 esac
 
@@ -43,6 +43,7 @@ run "$tools/hostile_flood" "$binary" "$flood"
 run "$tools/many_circuits" "$binary" "$many_seconds"
 run "$tools/disk_full" "$binary" "$tmpfs_mib"
 run "$tools/power_cut" "$cuts"
+run "$tools/query_scale" "$binary" "$days"
 
 cat "$report"
 exit $failed
