@@ -16,6 +16,7 @@
 #include "daemon/demo.h"
 #include "daemon/demo_simulator.h"
 #include "daemon/logging.h"
+#include "daemon/metering/tariff_schedule.h"
 #include "daemon/node_command.h"
 #include "daemon/send_command.h"
 #include "daemon/service.h"
@@ -95,6 +96,12 @@ int Serve(const std::string& config_path, const std::string& log_level) {
 int Check(const std::string& config_path) {
   Result<Config> config = LoadOrReport(config_path);
   if (!config.ok()) return 2;
+  // The tariff files were read with the config; building them checks them whole.
+  Result<TariffSchedule> tariffs = TariffSchedule::Create(*config);
+  if (!tariffs.ok()) {
+    std::cerr << "ampledger: " << tariffs.status().message() << "\n";
+    return 2;
+  }
   std::cout << config_path << ": OK\n" << DescribeConfig(*config);
   return 0;
 }
