@@ -21,6 +21,7 @@
 #include "daemon/node_command.h"
 #include "daemon/send_command.h"
 #include "daemon/service.h"
+#include "daemon/statement_command.h"
 #include "daemon/token_command.h"
 #include "storage/backup.h"
 
@@ -269,6 +270,19 @@ int main(int argc, char** argv) {
   meter_remove->add_option("id", meter_options.id, "the read's id (from meter-read list)")
       ->required();
 
+  StatementOptions statement_options;
+  statement_options.config_path = kDefaultConfig;
+  auto* statement = app.add_subcommand("statement", "a billing cycle's statement for a unit");
+  statement->add_option("--config,-c", statement_options.config_path, "configuration file")
+      ->capture_default_str();
+  statement->add_option("--unit", statement_options.unit, "unit id (default: every unit)");
+  statement->add_option("--cycle", statement_options.cycle, "the cycle starting in YYYY-MM")
+      ->required();
+  statement->add_option("--format", statement_options.format, "text, json, csv or html")
+      ->capture_default_str();
+  statement->add_option("--db", statement_options.db_path,
+                        "database to read (default: the config's storage.path)");
+
   CLI11_PARSE(app, argc, argv);
   if (*serve) return Serve(config_path, log_level);
   if (*check) return Check(config_path);
@@ -283,5 +297,6 @@ int main(int argc, char** argv) {
   if (*meter_add) return RunMeterReadAdd(meter_options, std::cout, std::cerr);
   if (*meter_list) return RunMeterReadList(meter_options, std::cout, std::cerr);
   if (*meter_remove) return RunMeterReadRemove(meter_options, std::cout, std::cerr);
+  if (*statement) return RunStatement(statement_options, std::cout, std::cerr);
   return Demo(demo_options);  // `ampledger demo`, and `ampledger` alone
 }
