@@ -159,7 +159,8 @@ class ConfigReader {
       TariffChange change;
       if (!r.Date("from", &change.from, Need::kRequired)) return;
       if (!site->tariff_changes.empty() && change.from <= site->tariff_changes.back().from) {
-        r.Fail("from", "expected a date after " + date::format("%F", date::sys_days{site->tariff_changes.back().from}) +
+        const date::sys_days before{site->tariff_changes.back().from};
+        r.Fail("from", "expected a date after " + date::format("%F", before) +
                            " (the change before); list changes in date order");
         return;
       }

@@ -25,7 +25,8 @@ Result<UnixMs> ParseTime(const std::string& text, const std::string& zone_name) 
   bool has_time = std::sscanf(text.c_str(), "%4d-%2d-%2d%c%2d:%2d%n", &y, &mo, &d, &separator,
                               &h, &mi, &used) == 6 &&
                   (separator == ' ' || separator == 'T') && used == int(text.size());
-  bool date_only = !has_time && std::sscanf(text.c_str(), "%4d-%2d-%2d%n", &y, &mo, &d, &used) == 3 &&
+  bool date_only = !has_time &&
+                   std::sscanf(text.c_str(), "%4d-%2d-%2d%n", &y, &mo, &d, &used) == 3 &&
                    used == int(text.size());
   date::year_month_day day = date::year{y} / mo / d;
   if ((!has_time && !date_only) || !day.ok() || h > 23 || mi > 59 || h < 0 || mi < 0) {

@@ -46,8 +46,8 @@ std::vector<const MainMeterRead*> OfKind(const std::vector<MainMeterRead>& reads
 
 // The register at `t`, from the sorted register reads; nullopt when no read lies on one side.
 std::optional<double> RegisterAt(const std::vector<const MainMeterRead*>& registers, UnixMs t) {
-  auto after = std::lower_bound(registers.begin(), registers.end(), t,
-                                [](const MainMeterRead* read, UnixMs at) { return read->at_ms < at; });
+  auto before = [](const MainMeterRead* read, UnixMs at) { return read->at_ms < at; };
+  auto after = std::lower_bound(registers.begin(), registers.end(), t, before);
   if (after != registers.end() && (*after)->at_ms == t) return (*after)->kwh;
   if (after == registers.begin() || after == registers.end()) return std::nullopt;
   const MainMeterRead& a = **(after - 1);

@@ -48,4 +48,21 @@ Result<std::vector<CyclePart>> TariffSchedule::Split(const LocalTime& local,
   return parts;
 }
 
+Result<std::vector<ScheduledCharges>> TariffSchedule::PriceEnergy(
+    const LocalTime& local, std::span<const BucketEnergy> buckets) const {
+  std::vector<std::vector<BucketEnergy>> by_tariff(entries_.size());
+  for (const BucketEnergy& bucket : buckets) {
+    const ScheduledTariff& tariff = InForce(local.At(bucket.start_ms).date);
+    by_tariff[&tariff - entries_.data()].push_back(bucket);
+  }
+  std::vector<ScheduledCharges> out;
+  for (std::size_t k = 0; k < entries_.size(); ++k) {
+    if (by_tariff[k].empty()) continue;
+    Result<std::vector<EnergyCharge>> lines = entries_[k].tariff.PriceEnergy(local, by_tariff[k]);
+    if (!lines.ok()) return lines.status();
+    out.push_back({&entries_[k], std::move(lines).value()});
+  }
+  return out;
+}
+
 }  // namespace ampledger

@@ -10,6 +10,7 @@
 // of the cycle's days (BillInput::whole_cycle_days).
 #pragma once
 
+#include <span>
 #include <string>
 #include <vector>
 
@@ -35,6 +36,12 @@ struct CyclePart {
   const ScheduledTariff* tariff = nullptr;  // owned by the schedule
 };
 
+// The energy charge of buckets priced under one tariff of the schedule.
+struct ScheduledCharges {
+  const ScheduledTariff* tariff = nullptr;  // owned by the schedule
+  std::vector<EnergyCharge> lines;          // as Tariff::PriceEnergy
+};
+
 class TariffSchedule {
  public:
   // An empty schedule: the site has no tariff.
@@ -54,6 +61,13 @@ class TariffSchedule {
   // `cycle` cut at every change inside it, in time order; one part when none falls inside.
   // Precondition: !empty(). InvalidArgument when a day's bounds cannot be found in the zone.
   Result<std::vector<CyclePart>> Split(const LocalTime& local, const BillingCycle& cycle) const;
+
+  // The time-of-use energy charge of `buckets` (any span, e.g. "what did this circuit cost
+  // this week"), each bucket priced by the tariff in force on its local date: one entry per
+  // tariff that priced any bucket, in schedule order. Energy lines only: fixed, demand and
+  // per-cycle charges belong to a bill. Precondition: !empty(). Errors as Tariff::PriceEnergy.
+  Result<std::vector<ScheduledCharges>> PriceEnergy(const LocalTime& local,
+                                                    std::span<const BucketEnergy> buckets) const;
 
  private:
   std::vector<ScheduledTariff> entries_;  // in increasing `from`

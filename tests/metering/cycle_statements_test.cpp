@@ -90,6 +90,25 @@ TEST_SUITE("metering") {
     CHECK(TariffSchedule::Create(none)->empty());
   }
 
+  TEST_CASE("energy over any span is priced by the tariff of each bucket's date") {
+    LocalTime zone = Zone("UTC");
+    TariffSchedule schedule = Schedule(Site(true));
+    // 10 June 23:00 to 11 June 01:00: four buckets of 0.5 kWh under each tariff.
+    std::vector<BucketEnergy> buckets;
+    for (int k = 0; k < 8; ++k) {
+      buckets.push_back({Utc(2026_y / 6 / 10, 23) + k * kMsPerBucket, 0.5});
+    }
+    Result<std::vector<ScheduledCharges>> charges = schedule.PriceEnergy(zone, buckets);
+    REQUIRE_MESSAGE(charges.ok(), charges.status().ToString());
+    REQUIRE(charges->size() == 2);
+    CHECK((*charges)[0].tariff->name == "old");
+    REQUIRE((*charges)[0].lines.size() == 1);
+    CHECK((*charges)[0].lines[0].kwh == doctest::Approx(2));
+    CHECK((*charges)[0].lines[0].amount == doctest::Approx(0.20));  // 2 kWh x 0.10
+    CHECK((*charges)[1].tariff->name == "new");
+    CHECK((*charges)[1].lines[0].amount == doctest::Approx(0.26));  // 2 kWh x 0.13
+  }
+
   TEST_CASE("a tariff error names the tariff file") {
     Config config = Site(false);
     config.tariffs[0].tariff.rates.seasons[0].last_day = date::December / 30;
