@@ -7,7 +7,9 @@
 // A billing cycle that a change falls inside is split at the change into parts, each billed
 // under its own tariff (daemon/metering/cycle_statements.h): energy is priced by the tariff
 // of the day it was used, and what a tariff charges per cycle is prorated by the part's share
-// of the cycle's days (BillInput::whole_cycle_days).
+// of the cycle's days (BillInput::whole_cycle_days). Prorating by days when prices change
+// inside a billing period is how utilities commonly bill such a period (common practice; no
+// single published rule: check the utility's own terms).
 #pragma once
 
 #include <span>
