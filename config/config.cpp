@@ -31,6 +31,13 @@ const UnitConfig* Config::FindUnit(const std::string& id) const {
   return FindById(units, id);
 }
 
+const TariffFile* Config::FindTariff(const std::string& name) const {
+  for (const TariffFile& file : tariffs) {
+    if (file.name == name) return &file;
+  }
+  return nullptr;
+}
+
 int Config::FindNodeIndex(std::string_view id) const {
   return FindIn(node_index_, id);
 }

@@ -13,12 +13,22 @@
 #include <string_view>
 #include <vector>
 
+#include <date/date.h>
+
 #include "config/status.h"
+#include "config/tariff_config.h"
 
 namespace ampledger {
 
 // Ranges beside the fields are checked by LoadConfig; a value outside them is an error, never
 // clamped. "required" keys have no default. Ids are 1..64 characters of A-Z a-z 0-9 . _ -
+
+// [[site.tariff_change]]: from local midnight (the site's zone) starting `from`, `tariff`
+// applies instead of the one before; earlier days keep their old prices.
+struct TariffChange {
+  date::year_month_day from;
+  std::string tariff;  // a tariff name of the library
+};
 
 // [site]: the building.
 struct SiteConfig {
@@ -27,9 +37,15 @@ struct SiteConfig {
   // Required; e.g. {120, 240} for split phase, {230}; 1..4 values, each 50..500.
   std::vector<double> nominal_volts;
   std::string currency = "USD";  // ISO 4217 code, three capital letters
-  // Name (an id) of a tariff in the tariff library; "" = none. Not yet checked against the
-  // library, which comes later.
+  // The tariff library: a folder of tariff files, one per tariff, named <tariff name>.toml
+  // (format: config/tariffs/README.md). Absolute after loading: a relative folder is resolved
+  // against the config file's folder; the default is the folder "tariffs" beside the file.
+  std::string tariff_dir = "tariffs";
+  // Name (an id) of the tariff in force, or before the first change in force; "" = none
+  // (no bills). LoadConfig reads every tariff named here and in tariff_changes.
   std::string tariff;
+  // [[site.tariff_change]]: later tariffs, in increasing date order; requires `tariff`.
+  std::vector<TariffChange> tariff_changes;
   int billing_cycle_day = 1;         // day of the month a billing cycle starts, 1..28
   double max_gap_seconds = 300;      // power is never integrated across a longer gap (1..86400)
 };
@@ -199,9 +215,19 @@ struct LogConfig {
   std::string level = "info";  // trace | debug | info | warn | error | off
 };
 
+// One tariff file of the library, as read (TariffConfig is validated further by
+// Tariff::Create in daemon/metering).
+struct TariffFile {
+  std::string name;  // the file's name without ".toml", as site.tariff names it
+  std::string path;  // absolute
+  TariffConfig tariff;
+};
+
 struct Config {
   std::string source_path;  // the file this was loaded from, for messages
   SiteConfig site;
+  // Every tariff the site names (site.tariff, then each change's, each once), in that order.
+  std::vector<TariffFile> tariffs;
   std::vector<NodeConfig> nodes;
   std::vector<CircuitConfig> circuits;
   std::vector<UnitConfig> units;
@@ -217,6 +243,7 @@ struct Config {
   const NodeConfig* FindNode(const std::string& id) const;
   const CircuitConfig* FindCircuit(const std::string& id) const;
   const UnitConfig* FindUnit(const std::string& id) const;
+  const TariffFile* FindTariff(const std::string& name) const;
 
   // The flat channel index used by ChannelReading::channel and storage: every channel of every
   // node, in Config order (node by node, channel by channel), numbered from 0. The tables behind
@@ -269,8 +296,10 @@ struct Config {
 // absent). The key path names keys from the top of the file joined by ".", with array elements
 // and [[array-of-tables]] entries numbered from 0 in file order: node[1].channel[0].gain.
 // TOML syntax errors read "<file>:<line>: TOML syntax: <description> (column N)".
-// Relative paths in the file (storage.path, http.tls_*, node key_file) are resolved against
-// the folder of `path`, so the Config holds absolute paths. Node keys never appear in messages.
+// Relative paths in the file (storage.path, http.tls_*, node key_file, site.tariff_dir) are
+// resolved against the folder of `path`, so the Config holds absolute paths. Node keys never
+// appear in messages. The tariff files the site names are read too; an error inside one is
+// reported in the same format with the tariff file as <file>.
 Result<Config> LoadConfig(const std::string& path);
 
 // Same, from text. `source_name` is used as <file> in messages; relative paths in the text are

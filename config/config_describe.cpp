@@ -76,6 +76,18 @@ std::string DescribeConfig(const Config& config) {
   out << "site \"" << site.name << "\": " << site.time_zone << ", " << Volts(site.nominal_volts)
       << ", " << site.currency << ", billing cycle starts on day " << site.billing_cycle_day
       << ", tariff " << (site.tariff.empty() ? "none" : site.tariff) << "\n";
+  if (!site.tariff.empty()) {
+    auto title = [&](const std::string& name) {
+      const TariffFile* file = config.FindTariff(name);
+      return file == nullptr ? std::string() : " \"" + file->tariff.rates.name + "\"";
+    };
+    out << "tariffs (from " << site.tariff_dir << "):\n";
+    out << "  " << site.tariff << title(site.tariff) << "\n";
+    for (const TariffChange& change : site.tariff_changes) {
+      out << "  from " << date::format("%F", date::sys_days{change.from}) << ": "
+          << change.tariff << title(change.tariff) << "\n";
+    }
+  }
 
   out << "nodes (" << config.nodes.size() << "):\n";
   for (const NodeConfig& node : config.nodes) {

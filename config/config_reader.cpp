@@ -13,6 +13,7 @@
 #include "config/alert_rule_reader.h"
 #include "config/hex.h"
 #include "config/table_reader.h"
+#include "config/tariff_reader.h"
 
 namespace ampledger {
 
@@ -61,7 +62,7 @@ class ConfigReader {
     TableReader r(&context_, root, "");
     r.AllowOnly({"site", "node", "circuit", "unit", "shared", "remainder", "alert", "storage",
                  "ingest", "http", "log"});
-    ReadSite(r, &config->site);
+    ReadSite(r, config);
     ReadNodes(r, &config->nodes);
     ReadCircuits(r, config->site, &config->circuits);
     ReadUnits(r, &config->units);
@@ -102,12 +103,13 @@ class ConfigReader {
   }
 
  private:
-  void ReadSite(TableReader& root, SiteConfig* site) {
+  void ReadSite(TableReader& root, Config* config) {
+    SiteConfig* site = &config->site;
     const toml::table* table = root.Table("site", "[site]", Need::kRequired);
     if (table == nullptr) return;
     TableReader r(&context_, *table, "site");
-    r.AllowOnly({"name", "time_zone", "nominal_volts", "currency", "tariff", "billing_cycle_day",
-                 "max_gap_seconds"});
+    r.AllowOnly({"name", "time_zone", "nominal_volts", "currency", "tariff_dir", "tariff",
+                 "tariff_change", "billing_cycle_day", "max_gap_seconds"});
     r.String("name", &site->name, Need::kRequired);
     if (r.String("time_zone", &site->time_zone, Need::kRequired)) {
       CheckTimeZone(r, site->time_zone);
@@ -125,12 +127,85 @@ class ConfigReader {
         r.Fail("currency", "expected an ISO 4217 code of three capital letters, got " + Quote(c));
       }
     }
-    if (r.String("tariff", &site->tariff) && !IsValidId(site->tariff)) {
-      r.Fail("tariff", "expected a tariff name of 1 to 64 letters, digits, '.', '_' or '-', got " +
-                           Quote(site->tariff));
+    if (r.String("tariff_dir", &site->tariff_dir) && site->tariff_dir.empty()) {
+      r.Fail("tariff_dir", "expected a folder path, got \"\"");
     }
+    site->tariff_dir = ResolvePath(base_dir_, site->tariff_dir);
+    if (r.String("tariff", &site->tariff)) CheckTariffName(r, "tariff", site->tariff);
+    ReadTariffChanges(r, site);
     r.Integer("billing_cycle_day", &site->billing_cycle_day, 1, 28);
     r.Number("max_gap_seconds", &site->max_gap_seconds, {1, 86400});
+    if (!site->tariff.empty()) ReadTariffLibrary(r, config);
+  }
+
+  static bool CheckTariffName(TableReader& r, std::string_view key, const std::string& name) {
+    if (IsValidId(name)) return true;
+    r.Fail(key, "expected a tariff name of 1 to 64 letters, digits, '.', '_' or '-', got " +
+                    Quote(name));
+    return false;
+  }
+
+  void ReadTariffChanges(TableReader& site_reader, SiteConfig* site) {
+    std::vector<const toml::table*> tables =
+        site_reader.Tables("tariff_change", "[[site.tariff_change]]");
+    if (!tables.empty() && site->tariff.empty() && !site_reader.failed()) {
+      site_reader.Fail("tariff", "missing; [[site.tariff_change]] needs the tariff in force "
+                                 "before the first change");
+      return;
+    }
+    for (size_t i = 0; i < tables.size() && !site_reader.failed(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("site.tariff_change", i));
+      r.AllowOnly({"from", "tariff"});
+      TariffChange change;
+      if (!r.Date("from", &change.from, Need::kRequired)) return;
+      if (!site->tariff_changes.empty() && change.from <= site->tariff_changes.back().from) {
+        const date::sys_days before{site->tariff_changes.back().from};
+        r.Fail("from", "expected a date after " + date::format("%F", before) +
+                           " (the change before); list changes in date order");
+        return;
+      }
+      if (!r.String("tariff", &change.tariff, Need::kRequired) ||
+          !CheckTariffName(r, "tariff", change.tariff)) {
+        return;
+      }
+      site->tariff_changes.push_back(change);
+    }
+  }
+
+  // Reads each tariff the site names from the library, once, in the order first named; the
+  // error for a missing file names the key that asked for it, errors inside a tariff file are
+  // that file's (config/tariff_reader.h).
+  void ReadTariffLibrary(TableReader& r, Config* config) {
+    const SiteConfig& site = config->site;
+    std::vector<std::pair<std::string, std::string>> wanted = {{"site.tariff", site.tariff}};
+    for (size_t i = 0; i < site.tariff_changes.size(); ++i) {
+      wanted.emplace_back(Indexed("site.tariff_change", i) + ".tariff",
+                          site.tariff_changes[i].tariff);
+    }
+    for (const auto& [key_path, name] : wanted) {
+      if (r.failed()) return;
+      if (config->FindTariff(name) != nullptr) continue;
+      std::string path = ResolvePath(site.tariff_dir, name + ".toml");
+      std::error_code error;
+      if (!std::filesystem::is_regular_file(path, error)) {
+        context_.FailPath(key_path, "no tariff " + Quote(name) + " in the tariff library: " +
+                                        Quote(path) + " is not a file (site.tariff_dir is " +
+                                        Quote(site.tariff_dir) + ")");
+        return;
+      }
+      Result<TariffConfig> tariff = ReadTariffFile(path);
+      if (!tariff.ok()) {
+        context_.FailWith(tariff.status());
+        return;
+      }
+      if (!tariff->currency.empty() && tariff->currency != site.currency) {
+        context_.FailPath(key_path, "tariff " + Quote(name) + " is priced in " +
+                                        tariff->currency + ", the site's currency is " +
+                                        site.currency);
+        return;
+      }
+      config->tariffs.push_back({name, path, std::move(tariff).value()});
+    }
   }
 
   static void CheckTimeZone(TableReader& r, const std::string& name) {

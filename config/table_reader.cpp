@@ -189,6 +189,21 @@ bool TableReader::Bool(std::string_view key, bool* out) {
   return true;
 }
 
+bool TableReader::Date(std::string_view key, date::year_month_day* out, Need need) {
+  const std::string expected = "expected a date such as 2026-06-01 (written without quotes)";
+  const toml::node* node = Get(key, need, expected);
+  if (node == nullptr) return false;
+  const auto* value = node->as_date();
+  if (value == nullptr) {
+    FailAt(*node, KeyPath(key), expected + ", got " + DescribeTomlType(*node));
+    return false;
+  }
+  // toml++ has already refused impossible dates such as 2026-02-30.
+  const toml::date& d = value->get();
+  *out = date::year{d.year} / date::month{d.month} / date::day{d.day};
+  return true;
+}
+
 bool TableReader::Strings(std::string_view key, std::vector<std::string>* out, Need need) {
   const toml::node* node = Get(key, need, "expected an array of strings");
   if (node == nullptr) return false;

@@ -6,6 +6,7 @@
 // Internal to config/ (the only place that includes toml++). Not thread-safe.
 #pragma once
 
+#include <date/date.h>
 #include <toml++/toml.h>
 
 #include <cstdint>
@@ -31,6 +32,10 @@ class ReadContext {
   // Same, at the recorded line of `path` (KeyLines::LineOf).
   void FailPath(const std::string& path, const std::string& what) {
     Fail(lines_->LineOf(path), path, what);
+  }
+  // Keeps `error` as it is (already in the format, e.g. from another file), if first.
+  void FailWith(const Status& error) {
+    if (!failed()) error_ = error;
   }
 
  private:
@@ -90,6 +95,8 @@ class TableReader {
     return true;
   }
   bool Bool(std::string_view key, bool* out);
+  // A TOML local date, written without quotes: 2026-06-01.
+  bool Date(std::string_view key, date::year_month_day* out, Need need = Need::kOptional);
   bool Strings(std::string_view key, std::vector<std::string>* out, Need need = Need::kOptional);
   bool Numbers(std::string_view key, std::vector<double>* out, NumberRange range,
                Need need = Need::kOptional);

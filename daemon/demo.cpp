@@ -40,11 +40,14 @@ Status WriteText(const std::string& path, const char* text) {
 Result<Config> PrepareDemo(const DemoOptions& options) {
   Result<std::string> dir = MakeDemoDir(options.keep_dir);
   if (!dir.ok()) return dir.status();
-  const std::string config_path = *dir + "/duplex.toml";
-  if (Status written = WriteText(config_path, kDemoConfigToml); !written.ok()) return written;
-  std::filesystem::create_directories(*dir + "/keys");
-  if (Status written = WriteText(*dir + "/" + kDemoKeyPath, kDemoKey); !written.ok()) {
-    return written;
+  const std::string config_path = *dir + "/" + kDemoConfigPath;
+  for (auto [path, text] : {std::pair{kDemoConfigPath, kDemoConfigToml},
+                            std::pair{kDemoKeyPath, kDemoKey},
+                            std::pair{kDemoTariffPath, kDemoTariff}}) {
+    std::filesystem::path file = std::filesystem::path(*dir) / path;
+    std::error_code error;
+    std::filesystem::create_directories(file.parent_path(), error);
+    if (Status written = WriteText(file.string(), text); !written.ok()) return written;
   }
   Result<Config> config = LoadConfig(config_path);
   if (!config.ok()) return config.status();
@@ -52,7 +55,8 @@ Result<Config> PrepareDemo(const DemoOptions& options) {
   // The simulated nodes backfill two weeks of history, older than the usual resend horizon.
   config->ingest.resend_horizon_seconds = 30 * 86400;
   config->http.listen = options.http_listen;
-  spdlog::info("demo site \"{}\": config and database in {}", config->site.name, *dir);
+  spdlog::info("demo site \"{}\": config and database in {}/examples, tariff in {}/tariffs",
+               config->site.name, *dir, *dir);
   return config;
 }
 

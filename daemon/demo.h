@@ -15,8 +15,10 @@ struct DemoOptions {
   std::string keep_dir;  // "" = a new folder under the system temp dir
 };
 
-// Writes the example config into the demo folder and loads it from there (so its relative
-// database path lands in that folder), with the listen addresses of `options`.
+// Writes the example config (examples/duplex.toml, its key file) and its tariff
+// (tariffs/tannery-street-time-of-use.toml) into the demo folder, laid out as config/ is in the
+// source tree, and loads it from there (so its relative database path lands in
+// <folder>/examples), with the listen addresses of `options`.
 Result<Config> PrepareDemo(const DemoOptions& options);
 
 // Stores a new viewer token for the demo's API (the daemon must have created the database)

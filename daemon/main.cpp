@@ -16,9 +16,12 @@
 #include "daemon/demo.h"
 #include "daemon/demo_simulator.h"
 #include "daemon/logging.h"
+#include "daemon/meter_read_command.h"
+#include "daemon/metering/tariff_schedule.h"
 #include "daemon/node_command.h"
 #include "daemon/send_command.h"
 #include "daemon/service.h"
+#include "daemon/statement_command.h"
 #include "daemon/token_command.h"
 #include "storage/backup.h"
 
@@ -95,6 +98,12 @@ int Serve(const std::string& config_path, const std::string& log_level) {
 int Check(const std::string& config_path) {
   Result<Config> config = LoadOrReport(config_path);
   if (!config.ok()) return 2;
+  // The tariff files were read with the config; building them checks them whole.
+  Result<TariffSchedule> tariffs = TariffSchedule::Create(*config);
+  if (!tariffs.ok()) {
+    std::cerr << "ampledger: " << tariffs.status().message() << "\n";
+    return 2;
+  }
   std::cout << config_path << ": OK\n" << DescribeConfig(*config);
   return 0;
 }
@@ -238,6 +247,42 @@ int main(int argc, char** argv) {
   token_revoke->add_option("id", token_options.id, "the token's id (from token list)")
       ->required();
 
+  MeterReadOptions meter_options;
+  meter_options.config_path = kDefaultConfig;
+  auto* meter_read = app.add_subcommand("meter-read", "main (utility) meter reads, typed in");
+  meter_read->require_subcommand(1);
+  auto* meter_add = meter_read->add_subcommand("add", "store a register or period read");
+  meter_add->add_option("--config,-c", meter_options.config_path, "configuration file")
+      ->capture_default_str();
+  meter_add->add_option("--register", meter_options.register_kwh, "the meter's kWh register");
+  meter_add->add_option("--at", meter_options.at, "when the register was read");
+  meter_add->add_option("--kwh", meter_options.period_kwh, "kWh used over a period");
+  meter_add->add_option("--from", meter_options.from, "the period's start");
+  meter_add->add_option("--to", meter_options.to, "the period's end");
+  meter_add->add_option("--source", meter_options.source, "who or what gave the read")
+      ->capture_default_str();
+  auto* meter_list = meter_read->add_subcommand("list", "list the stored reads");
+  meter_list->add_option("--config,-c", meter_options.config_path, "configuration file")
+      ->capture_default_str();
+  auto* meter_remove = meter_read->add_subcommand("remove", "delete a read typed in by mistake");
+  meter_remove->add_option("--config,-c", meter_options.config_path, "configuration file")
+      ->capture_default_str();
+  meter_remove->add_option("id", meter_options.id, "the read's id (from meter-read list)")
+      ->required();
+
+  StatementOptions statement_options;
+  statement_options.config_path = kDefaultConfig;
+  auto* statement = app.add_subcommand("statement", "a billing cycle's statement for a unit");
+  statement->add_option("--config,-c", statement_options.config_path, "configuration file")
+      ->capture_default_str();
+  statement->add_option("--unit", statement_options.unit, "unit id (default: every unit)");
+  statement->add_option("--cycle", statement_options.cycle, "the cycle starting in YYYY-MM")
+      ->required();
+  statement->add_option("--format", statement_options.format, "text, json, csv or html")
+      ->capture_default_str();
+  statement->add_option("--db", statement_options.db_path,
+                        "database to read (default: the config's storage.path)");
+
   CLI11_PARSE(app, argc, argv);
   if (*serve) return Serve(config_path, log_level);
   if (*check) return Check(config_path);
@@ -249,5 +294,9 @@ int main(int argc, char** argv) {
   if (*token_create) return RunTokenCreate(token_options, std::cout, std::cerr);
   if (*token_list) return RunTokenList(token_options, std::cout, std::cerr);
   if (*token_revoke) return RunTokenRevoke(token_options, std::cout, std::cerr);
+  if (*meter_add) return RunMeterReadAdd(meter_options, std::cout, std::cerr);
+  if (*meter_list) return RunMeterReadList(meter_options, std::cout, std::cerr);
+  if (*meter_remove) return RunMeterReadRemove(meter_options, std::cout, std::cerr);
+  if (*statement) return RunStatement(statement_options, std::cout, std::cerr);
   return Demo(demo_options);  // `ampledger demo`, and `ampledger` alone
 }

@@ -11,6 +11,7 @@
 #include "daemon/ingest/ingest_stats.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "daemon/ingest_loop.h"
+#include "daemon/metering/tariff_schedule.h"
 #include "daemon/sd_notify.h"
 #include "storage/database.h"
 #include "storage/reading_writer.h"
@@ -72,9 +73,14 @@ class ServiceImpl {
 
   std::uint16_t udp_port() const { return receiver_ ? receiver_->port() : 0; }
   std::uint16_t http_port() const { return http_.port(); }
+  const TariffSchedule& tariffs() const { return tariffs_; }
 
  private:
   Status StartParts() {
+    // Built once: the API's cost and statement routes price with it.
+    Result<TariffSchedule> tariffs = TariffSchedule::Create(config_);
+    if (!tariffs.ok()) return tariffs.status();
+    tariffs_ = std::move(tariffs).value();
     Result<std::unique_ptr<Database>> db = Database::Open(config_.storage);
     if (!db.ok()) return db.status();
     db_ = std::move(db).value();
@@ -115,6 +121,7 @@ class ServiceImpl {
   }
 
   const Config config_;
+  TariffSchedule tariffs_;  // set by Start(), then read-only
   IngestStats stats_;
   SdNotifier notifier_;
   HttpServer http_;
@@ -138,5 +145,6 @@ void Service::RequestStop() { impl_->RequestStop(); }
 Status Service::Wait() { return impl_->Wait(); }
 std::uint16_t Service::udp_port() const { return impl_->udp_port(); }
 std::uint16_t Service::http_port() const { return impl_->http_port(); }
+const TariffSchedule& Service::tariffs() const { return impl_->tariffs(); }
 
 }  // namespace ampledger

@@ -21,6 +21,7 @@
 namespace ampledger {
 
 class ServiceImpl;
+class TariffSchedule;
 
 class Service {
  public:
@@ -43,6 +44,11 @@ class Service {
   // The bound ports (useful when the config asked for port 0).
   std::uint16_t udp_port() const;
   std::uint16_t http_port() const;
+
+  // The site's tariffs by date, built by Start() (which fails on a bad tariff); empty before
+  // Start() or when the site names no tariff. Read-only afterwards: any thread may call it
+  // while the service runs.
+  const TariffSchedule& tariffs() const;
 
  private:
   std::unique_ptr<ServiceImpl> impl_;

@@ -72,6 +72,20 @@ CREATE TABLE api_token (
   revoked_ms INTEGER                -- NULL while the token works
 );
 )sql",
+      // 3: reads of the site's main (utility) meter, typed in (storage/main_meter_store.h).
+      R"sql(
+CREATE TABLE main_meter_read (
+  id INTEGER PRIMARY KEY,
+  kind TEXT NOT NULL CHECK (kind IN ('register', 'period')),
+  at_ms INTEGER NOT NULL,           -- register: when read; period: its end (ms since 1970 UTC)
+  period_start_ms INTEGER,          -- period reads only: the period's start
+  kwh REAL NOT NULL,                -- the register's value, or the period's energy
+  source TEXT NOT NULL,             -- who or what gave the read
+  added_ms INTEGER NOT NULL,        -- when it was stored
+  CHECK ((kind = 'period') = (period_start_ms IS NOT NULL))
+);
+CREATE INDEX main_meter_read_at ON main_meter_read (at_ms);
+)sql",
   };
   return kMigrations;
 }

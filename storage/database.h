@@ -12,6 +12,7 @@
 //   rollup_pending(bucket)             buckets whose rollup rows may lag the raw readings
 //   node_state(node, blob)             ingest's per-node state (anti-replay window)
 //   api_token(id, secret_sha256, ...)  API bearer tokens, hashed (storage/token_store.h)
+//   main_meter_read(id, kind, ...)     main (utility) meter reads (storage/main_meter_store.h)
 #pragma once
 
 #include <sqlite3.h>
@@ -28,7 +29,7 @@ namespace ampledger {
 
 // The schema version this build writes (PRAGMA user_version). Migration N takes a database
 // from version N-1 to N.
-constexpr int kSchemaVersion = 2;
+constexpr int kSchemaVersion = 3;
 
 class Database {
  public:

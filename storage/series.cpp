@@ -14,45 +14,55 @@ std::vector<ChannelRef> FlatChannels(const Config& config) {
   return out;
 }
 
-Result<std::int64_t> IdOf(Statement& insert, Statement& select, const std::string& a,
+// The id of a name, inserting it first when `insert` is given; -1 when absent and not inserted.
+Result<std::int64_t> IdOf(Statement* insert, Statement& select, const std::string& a,
                           const std::string* b, const std::string& what) {
-  insert.Bind(1, a);
-  if (b != nullptr) insert.Bind(2, *b);
-  if (Status s = insert.Run(what); !s.ok()) return s;
+  if (insert != nullptr) {
+    insert->Bind(1, a);
+    if (b != nullptr) insert->Bind(2, *b);
+    if (Status s = insert->Run(what); !s.ok()) return s;
+  }
   select.Bind(1, a);
   if (b != nullptr) select.Bind(2, *b);
   Result<bool> row = select.Step(what);
   if (!row.ok()) return row.status();
   std::int64_t id = row.value() ? select.Int(0) : -1;
   select.Reset();
-  if (id < 0) return Status::Corruption("series id for \"" + a + "\" vanished");
+  if (id < 0 && insert != nullptr) {
+    return Status::Corruption("series id for \"" + a + "\" vanished");
+  }
   return id;
 }
 
-Result<SeriesMap> RegisterAll(Database& db, const Config& config) {
+Result<SeriesMap> RegisterAll(const Database& db, const Config& config, bool add_missing) {
   Result<Statement> insert_channel =
-      db.Prepare("INSERT OR IGNORE INTO channel_series (node, channel) VALUES (?1, ?2)");
+      db.Prepare(add_missing ? "INSERT OR IGNORE INTO channel_series (node, channel) VALUES (?1, ?2)"
+                             : "SELECT 1");
   Result<Statement> select_channel =
       db.Prepare("SELECT id FROM channel_series WHERE node = ?1 AND channel = ?2");
-  Result<Statement> insert_circuit =
-      db.Prepare("INSERT OR IGNORE INTO circuit_series (circuit) VALUES (?1)");
+  Result<Statement> insert_circuit = db.Prepare(
+      add_missing ? "INSERT OR IGNORE INTO circuit_series (circuit) VALUES (?1)" : "SELECT 1");
   Result<Statement> select_circuit = db.Prepare("SELECT id FROM circuit_series WHERE circuit = ?1");
   for (const auto* s : {&insert_channel, &select_channel, &insert_circuit, &select_circuit}) {
     if (!s->ok()) return s->status();
   }
+  Statement* add_channel = add_missing ? &*insert_channel : nullptr;
+  Statement* add_circuit = add_missing ? &*insert_circuit : nullptr;
   SeriesMap map;
   std::vector<ChannelRef> channels = FlatChannels(config);
   for (const ChannelRef& ref : channels) {
     Result<std::int64_t> id =
-        IdOf(*insert_channel, *select_channel, ref.node, &ref.channel, "register channel series");
+        IdOf(add_channel, *select_channel, ref.node, &ref.channel, "register channel series");
     if (!id.ok()) return id.status();
-    map.channel_index_of_id[id.value()] = static_cast<int>(map.channel_ids.size());
+    if (id.value() >= 0) {
+      map.channel_index_of_id[id.value()] = static_cast<int>(map.channel_ids.size());
+    }
     map.channel_ids.push_back(id.value());
   }
   map.circuit_of_channel.assign(channels.size(), -1);
   for (const CircuitConfig& circuit : config.circuits) {
     Result<std::int64_t> id =
-        IdOf(*insert_circuit, *select_circuit, circuit.id, nullptr, "register circuit series");
+        IdOf(add_circuit, *select_circuit, circuit.id, nullptr, "register circuit series");
     if (!id.ok()) return id.status();
     int circuit_index = map.CircuitCount();
     map.circuit_ids.push_back(id.value());
@@ -79,13 +89,17 @@ int SeriesMap::ChannelIndexOfId(std::int64_t id) const {
 
 Result<SeriesMap> RegisterSeries(Database& db, const Config& config) {
   if (Status s = db.Exec("BEGIN IMMEDIATE", "register series"); !s.ok()) return s;
-  Result<SeriesMap> map = RegisterAll(db, config);
+  Result<SeriesMap> map = RegisterAll(db, config, true);
   Status s = map.ok() ? db.Exec("COMMIT", "register series") : map.status();
   if (!s.ok()) {
     (void)db.Exec("ROLLBACK", "roll back series");
     return s;
   }
   return map;
+}
+
+Result<SeriesMap> LookUpSeries(const Database& db, const Config& config) {
+  return RegisterAll(db, config, false);
 }
 
 }  // namespace ampledger

@@ -35,4 +35,8 @@ struct SeriesMap {
 // transaction. Call on the writer's connection at start-up, before the writer runs.
 Result<SeriesMap> RegisterSeries(Database& db, const Config& config);
 
+// The same map, read without writing (for a reader connection, Database::OpenReader): a name
+// never registered gets id -1, which matches no stored row.
+Result<SeriesMap> LookUpSeries(const Database& db, const Config& config);
+
 }  // namespace ampledger

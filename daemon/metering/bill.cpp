@@ -59,6 +59,18 @@ class BillBuilder {
     bill_.lines.push_back(std::move(line));
   }
   std::size_t Loads() const { return input_.loads.size(); }
+  // The days per-cycle quantities are spread over, and this bill's share of them.
+  int CycleDays() const {
+    return input_.whole_cycle_days > 0 ? input_.whole_cycle_days : bill_.days;
+  }
+  double CycleFraction() const {
+    return CycleDays() > 0 ? static_cast<double>(bill_.days) / CycleDays() : 1;
+  }
+  bool IsPart() const { return input_.whole_cycle_days > 0; }
+  std::string Prorated() const {
+    return ", prorated " + std::to_string(bill_.days) + " of " + std::to_string(CycleDays()) +
+           " days";
+  }
 
   // Load weights over a set of buckets: each consumption load's kWh there.
   std::vector<double> WeightsWhere(const std::vector<bool>& in) const {
@@ -207,7 +219,7 @@ class BillBuilder {
       }
       if (season_days == 0) continue;
       double scale = static_cast<double>(season_days) /
-                     (config_.prorate_tiers ? config_.prorate_days : bill_.days);
+                     (config_.prorate_tiers ? config_.prorate_days : CycleDays());
       std::vector<bool> in(timeline_.slots.size());
       for (std::size_t b = 0; b < in.size(); ++b) in[b] = timeline_.slots[b].season == season;
       std::vector<double> weights = WeightsWhere(in);
@@ -246,8 +258,8 @@ class BillBuilder {
     for (const FixedCharge& fixed : config_.fixed) {
       Micros unit_price = ToMicros(fixed.amount);
       bool daily = fixed.per == FixedPer::kDay;
-      double quantity = daily ? bill_.days : 1;
-      Add({LineKind::kFixed, fixed.name, quantity, daily ? "day" : "cycle", unit_price,
+      double quantity = daily ? bill_.days : CycleFraction();
+      Add({LineKind::kFixed, daily || !IsPart() ? fixed.name : fixed.name + Prorated(), quantity, daily ? "day" : "cycle", unit_price,
            Times(quantity, unit_price), LineSplit::kEqual, {}});
     }
   }
@@ -328,6 +340,11 @@ class BillBuilder {
       bill_.billing_demand_kw.push_back(billing);
       Micros unit_price = ToMicros(demand.per_kw);
       Micros amount = std::max(Times(billing, unit_price), ToMicros(demand.minimum_amount));
+      if (IsPart()) {
+        billing *= CycleFraction();
+        amount = Times(CycleFraction(), amount);
+        what += Prorated();
+      }
       std::vector<bool> in(timeline_.slots.size(), false);
       if (measured > 0) {
         for (std::size_t b : members[peak]) in[b] = true;
@@ -348,7 +365,7 @@ class BillBuilder {
   }
 
   void MinimumLine() {
-    Micros minimum = ToMicros(config_.minimum_bill);
+    Micros minimum = Times(CycleFraction(), ToMicros(config_.minimum_bill));
     Micros total = RunningTotal();
     if (minimum == 0 || total >= minimum) return;
     Add({LineKind::kMinimum, "Minimum bill top-up (minimum " + FormatCents(minimum) + ")", 1,

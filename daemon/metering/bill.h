@@ -44,6 +44,11 @@ struct BillInput {
   std::vector<std::vector<double>> previous_billing_kw;
   double banked_kwh = 0;       // net metering: surplus kWh carried in
   Micros carried_credit = 0;   // money credit carried in (>= 0)
+  // When `cycle` is only a part of a billing cycle (the tariff changed inside it): the whole
+  // cycle's days. What a tariff charges per cycle is then prorated by the part's days over
+  // these: fixed charges per cycle, tier block sizes, demand charges (the part's own peak)
+  // and the minimum bill. 0 = `cycle` is a whole cycle.
+  int whole_cycle_days = 0;
 };
 
 enum class LineKind {

@@ -60,6 +60,7 @@ class StatementBuilder {
     input_.previous_billing_kw = reads_.previous_billing_kw;
     input_.banked_kwh = reads_.banked_kwh;
     input_.carried_credit = reads_.carried_credit;
+    input_.whole_cycle_days = reads_.whole_cycle_days;
     for (const CircuitSeries& series : circuits_) {
       const CircuitConfig* circuit = config_.FindCircuit(series.circuit);
       if (circuit == nullptr) {

@@ -54,6 +54,7 @@ struct CycleReads {
   std::vector<std::vector<double>> previous_billing_kw;  // as BillInput
   double banked_kwh = 0;
   Micros carried_credit = 0;
+  int whole_cycle_days = 0;  // as BillInput: set when the cycle given is a part of one
 };
 
 enum class StatementSection {
@@ -82,11 +83,21 @@ struct UnitStatement {
   double shared_kwh = 0;  // of shared circuits and the remainder
 };
 
+// Which tariff priced which days of the cycle (more than one when the tariff changed in it).
+struct TariffSpan {
+  std::string name;   // library name
+  std::string title;  // the tariff file's `name`
+  date::year_month_day first_day;
+  date::year_month_day last_day;  // inclusive
+};
+
 struct CycleStatements {
   Bill site;
+  std::vector<TariffSpan> tariffs;  // filled by ComputeCycleStatements; empty otherwise
   std::vector<UnitStatement> units;  // config order; then the owner's part if not empty
   double submetered_import_kwh = 0;
   std::optional<double> main_meter_kwh;
+  std::string main_meter_basis;  // how main_meter_kwh was found, or why it is not known
   std::optional<double> submetered_ratio;  // submetered import / main meter
   double remainder_kwh = 0;                // billed as the remainder (0 when not billed)
   std::string notice = kTenantBillingNotice;

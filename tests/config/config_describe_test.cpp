@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cctype>
+#include <filesystem>
 
 #include "config/config.h"
 #include "tests/config/config_text.h"
@@ -44,6 +45,30 @@ TEST_CASE("the summary of the minimal config, whole") {
         "HTTP API on 127.0.0.1:8417\n"
         "log level: info\n");
   CHECK(DescribeConfig(*config).find(kTestKeyHex) == std::string::npos);
+}
+
+TEST_CASE("the tariffs in the summary, with their dated changes") {
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "rates");
+  const std::string flat =
+      "name = \"Flat test rate\"\n[[season]]\nname = \"all\"\nfrom = \"01-01\"\n"
+      "to = \"12-31\"\ndefault_period = \"any\"\n[[season.period]]\nname = \"any\"\n"
+      "price = 0.2\n";
+  testing::WriteFile(dir.path() / "rates" / "flat.toml", flat);
+  testing::WriteFile(dir.path() / "rates" / "flat-2027.toml", flat);
+  const std::string site = kMinimalConfig.substr(0, kMinimalConfig.find("\n\n") + 1) +
+                           "tariff_dir = \"rates\"\ntariff = \"flat\"\n"
+                           "[[site.tariff_change]]\nfrom = 2027-01-01\ntariff = \"flat-2027\"\n" +
+                           kMinimalConfig.substr(kMinimalConfig.find("\n\n") + 1);
+  testing::WriteFile(dir.path() / "site.toml", site);
+  Result<Config> config = LoadConfig(dir.File("site.toml"));
+  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+  CHECK(DescribeConfig(*config).find(
+            "tariff flat\n"
+            "tariffs (from " + dir.File("rates") + "):\n"
+            "  flat \"Flat test rate\"\n"
+            "  from 2027-01-01: flat-2027 \"Flat test rate\"\n"
+            "nodes (1):\n") != std::string::npos);
 }
 
 TEST_CASE("alert rules in the summary") {

@@ -127,6 +127,11 @@ TEST_CASE("the example site loads") {
   CHECK(config->shared.size() == 3);
   REQUIRE(config->remainder);
   CHECK(config->storage.path == (folder / "duplex.db").string());
+  // The demo tariff, from the source tree's library through tariff_dir = "../tariffs".
+  CHECK(config->site.tariff == "tannery-street-time-of-use");
+  CHECK(config->site.tariff_dir == (SourceDir() / "config" / "tariffs").lexically_normal().string());
+  REQUIRE(config->tariffs.size() == 1);
+  CHECK(config->tariffs[0].tariff.rates.name == "Tannery Street residential time-of-use (demo)");
   const CircuitConfig* solar = config->FindCircuit("solar");
   REQUIRE(solar != nullptr);
   CHECK(solar->direction == Direction::kExport);

@@ -5,7 +5,10 @@
 
 #include <doctest/doctest.h>
 
+#include <filesystem>
+
 #include "tests/config/config_text.h"
+#include "tests/test_util.h"
 
 namespace ampledger {
 namespace {
@@ -38,7 +41,8 @@ TEST_CASE("unknown keys are errors, with the keys that were expected") {
         "remainder, alert, storage, ingest, http, log");
   CHECK(ErrorOf("[site]\nname = \"x\"\ntimezone = \"Europe/Paris\"\n") ==
         "site.toml:3: site.timezone: unknown key; expected one of name, time_zone, "
-        "nominal_volts, currency, tariff, billing_cycle_day, max_gap_seconds");
+        "nominal_volts, currency, tariff_dir, tariff, tariff_change, billing_cycle_day, "
+        "max_gap_seconds");
   CHECK(ErrorOf(kMinimalConfig + "calibration = 2\n") ==
         "site.toml:17: circuit[0].calibration: unknown key; expected one of id, name, channels, "
         "nominal_volts, voltage_from, one_leg_of_split_phase, direction, "
@@ -205,6 +209,129 @@ TEST_CASE("share rules and weights") {
   CHECK(ErrorOf(kMinimalConfig + units + "[remainder]\nrule = \"fixed\"\nunits = [\"a\"]\n"
                                          "weights = [1]\nsplit = 1\n") ==
         "site.toml:25: remainder.split: unknown key; expected one of rule, units, weights");
+}
+
+// A site whose [site] table ends at line 5, then `site_extra` (so its first line is 6), then a
+// node and a circuit.
+std::string TariffSite(const std::string& site_extra) {
+  return "[site]\nname = \"Test house\"\ntime_zone = \"Europe/Paris\"\nnominal_volts = [230]\n"
+         "currency = \"EUR\"\n" + site_extra +
+         "[[node]]\nid = \"n1\"\nauth = \"plain\"\n[[node.channel]]\nid = \"ct1\"\n"
+         "[[circuit]]\nid = \"c1\"\nchannels = [\"n1/ct1\"]\n";
+}
+
+// A tariff file of one flat price; `currency` on line 2.
+std::string FlatTariff(const std::string& currency, double price = 0.25) {
+  return "name = \"Flat test rate\"\ncurrency = \"" + currency + "\"\n"
+         "[[season]]\nname = \"all year\"\nfrom = \"01-01\"\nto = \"12-31\"\n"
+         "default_period = \"all hours\"\n[[season.period]]\nname = \"all hours\"\nprice = " +
+         std::to_string(price) + "\n";
+}
+
+// The error message of loading `site_text` as <dir>/site.toml, or "OK".
+std::string LoadError(const testing::TempDir& dir, const std::string& site_text) {
+  testing::WriteFile(dir.path() / "site.toml", site_text);
+  Result<Config> config = LoadConfig(dir.File("site.toml"));
+  return config.ok() ? "OK" : config.status().message();
+}
+
+TEST_CASE("site.tariff names a file of the tariff library, beside the config by default") {
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "tariffs");
+  testing::WriteFile(dir.path() / "tariffs" / "flat.toml", FlatTariff("EUR"));
+  testing::WriteFile(dir.path() / "site.toml", TariffSite("tariff = \"flat\"\n"));
+  Result<Config> config = LoadConfig(dir.File("site.toml"));
+  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+  CHECK(config->site.tariff_dir == dir.File("tariffs"));
+  REQUIRE(config->tariffs.size() == 1);
+  CHECK(config->tariffs[0].name == "flat");
+  CHECK(config->tariffs[0].path == dir.File("tariffs/flat.toml"));
+  CHECK(config->tariffs[0].tariff.rates.name == "Flat test rate");
+
+  const std::string site = dir.File("site.toml");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flatt\"\n")) ==
+        site + ":6: site.tariff: no tariff \"flatt\" in the tariff library: \"" +
+            dir.File("tariffs/flatt.toml") + "\" is not a file (site.tariff_dir is \"" +
+            dir.File("tariffs") + "\")");
+  CHECK(LoadError(dir, TariffSite("tariff_dir = \"\"\n")) ==
+        site + ":6: site.tariff_dir: expected a folder path, got \"\"");
+}
+
+TEST_CASE("site.tariff_dir is relative to the config file's folder") {
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "library");
+  testing::WriteFile(dir.path() / "library" / "flat.toml", FlatTariff(""));
+  CHECK(LoadError(dir, TariffSite("tariff_dir = \"library/\"\ntariff = \"flat\"\n")) == "OK");
+  CHECK(LoadError(dir, TariffSite("tariff_dir = \"library\"\ntariff = \"flat\"\n")) == "OK");
+}
+
+TEST_CASE("a tariff priced in another currency than the site's is refused") {
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "tariffs");
+  testing::WriteFile(dir.path() / "tariffs" / "flat.toml", FlatTariff("USD"));
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n")) ==
+        dir.File("site.toml") +
+            ":6: site.tariff: tariff \"flat\" is priced in USD, the site's currency is EUR");
+}
+
+TEST_CASE("an error inside a tariff file names the tariff file, line and key") {
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "tariffs");
+  testing::WriteFile(dir.path() / "tariffs" / "flat.toml",
+                     "minimum_bill = \"ten\"\n" + FlatTariff("EUR"));
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n")) ==
+        dir.File("tariffs/flat.toml") +
+            ":1: minimum_bill: expected a number from 0 to 1000000000, got a string");
+}
+
+TEST_CASE("dated tariff changes: dates in order, each tariff read once") {
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "tariffs");
+  testing::WriteFile(dir.path() / "tariffs" / "flat.toml", FlatTariff("EUR"));
+  testing::WriteFile(dir.path() / "tariffs" / "dearer.toml", FlatTariff("EUR", 0.31));
+  const std::string site = dir.File("site.toml");
+  const std::string two_changes =
+      "tariff = \"flat\"\n"                                                 // 6
+      "[[site.tariff_change]]\nfrom = 2026-06-01\ntariff = \"dearer\"\n"   // 7-9
+      "[[site.tariff_change]]\nfrom = 2027-01-01\ntariff = \"flat\"\n";    // 10-12
+  testing::WriteFile(dir.path() / "site.toml", TariffSite(two_changes));
+  Result<Config> config = LoadConfig(site);
+  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+  REQUIRE(config->site.tariff_changes.size() == 2);
+  CHECK(config->site.tariff_changes[0].from == date::year{2026} / 6 / 1);
+  CHECK(config->site.tariff_changes[0].tariff == "dearer");
+  CHECK(config->site.tariff_changes[1].tariff == "flat");
+  REQUIRE(config->tariffs.size() == 2);
+  CHECK(config->tariffs[1].name == "dearer");
+
+  CHECK(LoadError(dir, TariffSite("[[site.tariff_change]]\nfrom = 2026-06-01\n"
+                                  "tariff = \"dearer\"\n")) ==
+        site + ":1: site.tariff: missing; [[site.tariff_change]] needs the tariff in force "
+               "before the first change");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n[[site.tariff_change]]\n"
+                                  "from = \"2026-06-01\"\ntariff = \"dearer\"\n")) ==
+        site + ":8: site.tariff_change[0].from: expected a date such as 2026-06-01 (written "
+               "without quotes), got a string");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n[[site.tariff_change]]\n"
+                                  "tariff = \"dearer\"\n")) ==
+        site + ":7: site.tariff_change[0].from: missing; expected a date such as 2026-06-01 "
+               "(written without quotes)");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n"
+                                  "[[site.tariff_change]]\nfrom = 2027-01-01\ntariff = \"dearer\"\n"
+                                  "[[site.tariff_change]]\nfrom = 2027-01-01\ntariff = \"flat\"\n")) ==
+        site + ":11: site.tariff_change[1].from: expected a date after 2027-01-01 (the change "
+               "before); list changes in date order");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n[[site.tariff_change]]\n"
+                                  "from = 2026-06-01\ntariff = \"dear\"\n")) ==
+        site + ":9: site.tariff_change[0].tariff: no tariff \"dear\" in the tariff library: \"" +
+            dir.File("tariffs/dear.toml") + "\" is not a file (site.tariff_dir is \"" +
+            dir.File("tariffs") + "\")");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n[[site.tariff_change]]\n"
+                                  "from = 2026-06-01\ntariff = \"dearer\"\nprice = 2\n")) ==
+        site + ":10: site.tariff_change[0].price: unknown key; expected one of from, tariff");
+  CHECK(LoadError(dir, TariffSite("tariff = \"flat\"\n[[site.tariff_change]]\n"
+                                  "from = 2026-02-30\ntariff = \"dearer\"\n"))
+            .find(site + ":8: TOML syntax: ") == 0);
 }
 
 TEST_CASE("storage, ingest, http and log sections") {

@@ -1,0 +1,178 @@
+// daemon/meter_read_command.cpp
+#include "daemon/meter_read_command.h"
+
+#include <date/tz.h>
+
+#include <cstdio>
+#include <ostream>
+
+#include "api/rfc3339.h"
+#include "config/config.h"
+#include "config/wall_clock.h"
+#include "storage/database.h"
+#include "storage/main_meter_store.h"
+
+namespace ampledger {
+namespace {
+
+constexpr std::size_t kMaxSourceBytes = 200;  // a note, not a document
+
+// `text` as an instant: RFC 3339 with an offset, or local wall time in `zone_name`.
+Result<UnixMs> ParseTime(const std::string& text, const std::string& zone_name) {
+  if (std::optional<UnixMs> instant = ParseRfc3339(text)) return *instant;
+  int y = 0, mo = 0, d = 0, h = 0, mi = 0, used = 0;
+  char separator = 0;
+  bool has_time = std::sscanf(text.c_str(), "%4d-%2d-%2d%c%2d:%2d%n", &y, &mo, &d, &separator,
+                              &h, &mi, &used) == 6 &&
+                  (separator == ' ' || separator == 'T') && used == int(text.size());
+  bool date_only = !has_time &&
+                   std::sscanf(text.c_str(), "%4d-%2d-%2d%n", &y, &mo, &d, &used) == 3 &&
+                   used == int(text.size());
+  date::year_month_day day = date::year{y} / mo / d;
+  if ((!has_time && !date_only) || !day.ok() || h > 23 || mi > 59 || h < 0 || mi < 0) {
+    return Status::InvalidArgument(
+        "\"" + text + "\" is not a time: give RFC 3339 with an offset "
+        "(2026-03-05T08:10:00-06:00), local \"2026-03-05 08:10\" or a date \"2026-03-05\"");
+  }
+  date::local_time<std::chrono::minutes> local =
+      date::local_days{day} + std::chrono::hours{h} + std::chrono::minutes{mi};
+  try {
+    const date::time_zone* zone = date::locate_zone(zone_name);
+    auto utc = zone->to_sys(local);  // throws for a time the clocks skip or show twice
+    return static_cast<UnixMs>(
+        std::chrono::duration_cast<std::chrono::milliseconds>(utc.time_since_epoch()).count());
+  } catch (const date::nonexistent_local_time&) {
+    return Status::InvalidArgument("\"" + text + "\" does not exist in " + zone_name +
+                                   " (the clocks skip it)");
+  } catch (const date::ambiguous_local_time&) {
+    return Status::InvalidArgument("\"" + text + "\" happens twice in " + zone_name +
+                                   "; give it in RFC 3339 with its offset");
+  } catch (const std::exception& error) {
+    return Status::InvalidArgument(zone_name + ": " + error.what());
+  }
+}
+
+// Loads the config and opens its database for writing (creating and migrating it if needed).
+int OpenSite(const std::string& config_path, Config* config, std::unique_ptr<Database>* db,
+             std::ostream& err) {
+  Result<Config> loaded = LoadConfig(config_path);
+  if (!loaded.ok()) {
+    err << "ampledger: " << loaded.status().message() << "\n";
+    return 2;
+  }
+  *config = std::move(loaded).value();
+  Result<std::unique_ptr<Database>> opened = Database::Open(config->storage);
+  if (!opened.ok()) {
+    err << "ampledger: " << opened.status().ToString() << "\n";
+    return 1;
+  }
+  *db = std::move(opened).value();
+  return 0;
+}
+
+// The read the options describe, or what is wrong with them.
+Result<MainMeterRead> ReadFromOptions(const MeterReadOptions& options, const Config& config) {
+  MainMeterRead read;
+  read.source = options.source;
+  if (options.source.empty() || options.source.size() > kMaxSourceBytes ||
+      options.source.find_first_of("\r\n") != std::string::npos) {
+    return Status::InvalidArgument("--source: 1 to 200 bytes on one line");
+  }
+  bool as_register = options.register_kwh.has_value();
+  bool as_period = options.period_kwh.has_value();
+  if (as_register == as_period) {
+    return Status::InvalidArgument(
+        "give either --register KWH --at TIME (the meter's register) or --kwh KWH --from TIME "
+        "--to TIME (energy over a period, as on a utility bill)");
+  }
+  const std::string& zone = config.site.time_zone;
+  if (as_register) {
+    if (options.at.empty() || !options.from.empty() || !options.to.empty()) {
+      return Status::InvalidArgument("--register needs --at TIME, and no --from or --to");
+    }
+    Result<UnixMs> at = ParseTime(options.at, zone);
+    if (!at.ok()) return Status::InvalidArgument("--at: " + at.status().message());
+    read.at_ms = *at;
+    read.kwh = *options.register_kwh;
+    return read;
+  }
+  if (options.from.empty() || options.to.empty() || !options.at.empty()) {
+    return Status::InvalidArgument("--kwh needs --from TIME and --to TIME, and no --at");
+  }
+  Result<UnixMs> from = ParseTime(options.from, zone);
+  if (!from.ok()) return Status::InvalidArgument("--from: " + from.status().message());
+  Result<UnixMs> to = ParseTime(options.to, zone);
+  if (!to.ok()) return Status::InvalidArgument("--to: " + to.status().message());
+  read.kind = MeterReadKind::kPeriod;
+  read.period_start_ms = *from;
+  read.at_ms = *to;
+  read.kwh = *options.period_kwh;
+  return read;
+}
+
+}  // namespace
+
+int RunMeterReadAdd(const MeterReadOptions& options, std::ostream& out, std::ostream& err) {
+  Config config;
+  std::unique_ptr<Database> db;
+  if (int code = OpenSite(options.config_path, &config, &db, err); code != 0) return code;
+  Result<MainMeterRead> read = ReadFromOptions(options, config);
+  if (!read.ok()) {
+    err << "ampledger: meter-read add: " << read.status().message() << "\n";
+    return 2;
+  }
+  Result<std::int64_t> id = AddMainMeterRead(*db, *read, WallClockMs());
+  if (id.status().code() == StatusCode::kInvalidArgument) {
+    err << "ampledger: meter-read add: refused, nothing stored: " << id.status().message()
+        << "\n";
+    return 2;
+  }
+  if (!id.ok()) {
+    err << "ampledger: meter-read add: " << id.status().ToString() << "\n";
+    return 1;
+  }
+  out << "main meter read " << *id << " stored\n";
+  return 0;
+}
+
+int RunMeterReadList(const MeterReadOptions& options, std::ostream& out, std::ostream& err) {
+  Config config;
+  std::unique_ptr<Database> db;
+  if (int code = OpenSite(options.config_path, &config, &db, err); code != 0) return code;
+  Result<LocalTime> zone = LocalTime::ForZone(config.site.time_zone);
+  Result<std::vector<MainMeterRead>> reads = ListMainMeterReads(*db);
+  if (!zone.ok() || !reads.ok()) {
+    err << "ampledger: " << (zone.ok() ? reads.status() : zone.status()).ToString() << "\n";
+    return 1;
+  }
+  out << "id\tkind\tfrom\tat\tkwh\tsource\n";
+  for (const MainMeterRead& read : *reads) {
+    char kwh[32];
+    std::snprintf(kwh, sizeof kwh, "%.10g", read.kwh);
+    out << read.id << "\t" << MeterReadKindName(read.kind) << "\t"
+        << (read.kind == MeterReadKind::kPeriod ? FormatLocalRfc3339(*zone, read.period_start_ms)
+                                                : "-")
+        << "\t" << FormatLocalRfc3339(*zone, read.at_ms) << "\t" << kwh << "\t" << read.source
+        << "\n";
+  }
+  return 0;
+}
+
+int RunMeterReadRemove(const MeterReadOptions& options, std::ostream& out, std::ostream& err) {
+  Config config;
+  std::unique_ptr<Database> db;
+  if (int code = OpenSite(options.config_path, &config, &db, err); code != 0) return code;
+  Status removed = RemoveMainMeterRead(*db, options.id);
+  if (removed.code() == StatusCode::kNotFound) {
+    err << "ampledger: meter-read remove: " << removed.message() << "\n";
+    return 2;
+  }
+  if (!removed.ok()) {
+    err << "ampledger: meter-read remove: " << removed.ToString() << "\n";
+    return 1;
+  }
+  out << "main meter read " << options.id << " removed\n";
+  return 0;
+}
+
+}  // namespace ampledger
