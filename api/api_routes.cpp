@@ -253,9 +253,6 @@ enum class Reach {
   kSiteWide,  // admin or viewer; a unit token is told the route does not exist
 };
 
-// Whether a request without a token may still be answered (ApiContext::anonymous_status_routes).
-enum class Anonymous { kRefused, kAllowedWhenConfigured };
-
 using ScopedHandler =
     std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;
 
@@ -274,16 +271,11 @@ HttpResponse Unauthorized(const std::string& detail, bool token_presented) {
 
 // Wraps `handler` so it runs only for a valid bearer token, on the request's own reader
 // connection. The token is looked up on every request, so a revoked token stops at once.
-HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handler,
-                    Anonymous anonymous = Anonymous::kRefused) {
-  return [context, reach, handler = std::move(handler), anonymous](
+HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handler) {
+  return [context, reach, handler = std::move(handler)](
              const HttpRequest& request) -> Result<HttpResponse> {
     Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
     if (!db.ok()) return db.status();
-    if (request.authorization.empty() && context.anonymous_status_routes &&
-        anonymous == Anonymous::kAllowedWhenConfigured) {
-      return handler(request, **db, Scope{Scope::Kind::kViewer, ""});
-    }
     Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
     if (!scope.ok()) return scope.status();
     if (!scope->has_value()) {
@@ -321,14 +313,12 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest&, const Database&, const Scope&) {
                          return Nodes(context);
-                       },
-                       Anonymous::kAllowedWhenConfigured));
+                       }));
   server.Route("GET", "/v1/live",
                Guarded(context, Reach::kScoped,
                        [context](const HttpRequest&, const Database& db, const Scope& scope) {
                          return Live(context, db, scope);
-                       },
-                       Anonymous::kAllowedWhenConfigured));
+                       }));
   server.Route("GET", "/v1/circuits",
                Guarded(context, Reach::kScoped,
                        [context](const HttpRequest&, const Database&, const Scope& scope) {

@@ -30,10 +30,6 @@ struct ApiContext {
   const ReadingWriter* writer;
   const IngestStats* ingest;
   const UdpReceiver* receiver;  // for the kernel's drop count
-  // When set, /v1/nodes and /v1/live answer a request with no Authorization header as they
-  // did before tokens existed (as for a viewer). Only for callers that do not send a token
-  // yet; a presented token is always checked.
-  bool anonymous_status_routes = false;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);

@@ -110,7 +110,7 @@ double TruthWh(int channel, UnixMs from_ms, UnixMs to_ms) {
 }
 
 struct ApiFixture {
-  explicit ApiFixture(bool anonymous_status_routes = false)
+  ApiFixture()
       : config(SiteConfig(dir)), stats({"panel"}), server(config.http) {
     db = std::move(Database::Open(config.storage).value());
     series = RegisterSeries(*db, config).value();
@@ -145,7 +145,7 @@ struct ApiFixture {
     unit_a = Issue("unit:a");
     unit_b = Issue("unit:b");
     AddApiRoutes(server, ApiContext{&config, &series, config.storage.path, writer.get(), &stats,
-                                    receiver.get(), anonymous_status_routes});
+                                    receiver.get()});
     REQUIRE(server.Start().ok());
     client = std::make_unique<httplib::Client>("127.0.0.1", server.port());
     client->set_read_timeout(10);
@@ -209,10 +209,6 @@ struct ApiFixture {
   std::string admin, viewer, unit_a, unit_b;
   HttpServer server;
   std::unique_ptr<httplib::Client> client;
-};
-
-struct AnonymousStatusFixture : ApiFixture {
-  AnonymousStatusFixture() : ApiFixture(/*anonymous_status_routes=*/true) {}
 };
 
 // A problem document (RFC 9457) whose status matches the response's.
@@ -318,21 +314,6 @@ TEST_SUITE("api") {
     CHECK(live["units"]["watts"] == "W");
     CHECK(Ids(GetJson("/v1/live", unit_b)["circuits"]) == Strings{"b-heat"});
     CHECK(Ids(GetJson("/v1/live", viewer)["circuits"]).size() == 4);
-  }
-
-  TEST_CASE_FIXTURE(AnonymousStatusFixture, "anonymous_status_routes opens only /v1/nodes and "
-                                            "/v1/live, and only to requests without a token") {
-    CHECK(Get("/v1/nodes", "")->status == 200);
-    CHECK(Ids(GetJson("/v1/live", "")["circuits"]).size() == 4);
-    CHECK(Ids(GetJson("/v1/live", unit_b)["circuits"]) == std::vector<std::string>{"b-heat"});
-    CHECK(Get("/v1/nodes", unit_b)->status == 404);
-    CHECK(Get("/v1/live", admin + "x")->status == 401);
-    for (const char* path : {"/v1/site", "/metrics", "/v1/circuits", "/v1/units",
-                             "/v1/circuits/hall/series?from=2026-03-08T00:00:00-06:00&"
-                             "to=2026-03-09T00:00:00-05:00"}) {
-      CAPTURE(path);
-      CHECK(Get(path, "")->status == 401);
-    }
   }
 
   TEST_CASE_FIXTURE(ApiFixture, "a revoked token stops working at its next request") {
