@@ -1,15 +1,16 @@
 #include "api/api_routes.h"
 
-#include <sys/statvfs.h>
-
 #include <chrono>
 #include <filesystem>
+#include <optional>
 #include <nlohmann/json.hpp>
 
 #include "api/access.h"
 #include "api/api_limits.h"
+#include "api/health.h"
 #include "api/metrics.h"
 #include "api/problem.h"
+#include "api/rfc3339.h"
 #include "api/series_route.h"
 #include "api/token.h"
 #include "config/wall_clock.h"
@@ -22,29 +23,57 @@ namespace {
 
 using nlohmann::json;
 
-// Below this much free space the daemon is still running but not ready: SQLite needs room
-// for the WAL and checkpoints (common practice: keep well clear of a full disk).
-constexpr std::uint64_t kMinFreeBytes = 64ull << 20;
-
-std::uint64_t FreeBytes(const std::string& database_path) {
-  struct statvfs info {};
-  std::string folder = std::filesystem::path(database_path).parent_path().string();
-  if (::statvfs(folder.empty() ? "." : folder.c_str(), &info) != 0) return 0;
-  return static_cast<std::uint64_t>(info.f_bavail) * info.f_frsize;
+// A request's scope, if it carries a valid token; nullopt without one (open routes).
+std::optional<Scope> OptionalScope(const ApiContext& context, const HttpRequest& request) {
+  if (request.authorization.empty()) return std::nullopt;
+  Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
+  if (!db.ok()) return std::nullopt;
+  Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
+  return scope.ok() ? *scope : std::nullopt;
 }
 
-Result<HttpResponse> Health(const ApiContext& context) {
-  Status writer = context.writer->Health();
-  std::uint64_t free_bytes = FreeBytes(context.database_path);
-  bool ready = writer.ok() && free_bytes >= kMinFreeBytes;
-  json body = {
-      {"status", ready ? "ready" : "degraded"},
-      {"writer", writer.ok() ? "ok" : writer.ToString()},
-      {"disk_free_bytes", free_bytes},
-      {"time", WallClockMs()},
-  };
-  // 503 tells a load balancer or script that acknowledgements have stopped.
-  return HttpResponse::Json(body.dump(), ready ? 200 : 503);
+// Now as RFC 3339 in UTC ("2026-12-02T01:10:18.250Z").
+std::string UtcNow() {
+  static const Result<LocalTime> utc = LocalTime::ForZone("UTC");
+  return utc.ok() ? FormatLocalRfc3339(*utc, WallClockMs()) : std::to_string(WallClockMs());
+}
+
+HealthReport RunChecks(const ApiContext& context) {
+  return CheckHealth(context.writer->Health(), context.database_path,
+                     static_cast<std::uint64_t>(context.config->storage.min_free_bytes));
+}
+
+// Open: pass or fail per check, and why only for a whole-site token (details name paths and
+// SQLite errors). 200 whenever the daemon can answer: a full disk should take the daemon out
+// of service (/v1/ready), not get it restarted by a liveness probe, which would not help.
+Result<HttpResponse> Health(const ApiContext& context, const HttpRequest& request) {
+  const HealthReport report = RunChecks(context);
+  const std::optional<Scope> scope = OptionalScope(context, request);
+  const bool details = scope && scope->SeesWholeSite();
+  json checks = json::array();
+  for (const HealthCheck& check : report.checks) {
+    json entry = {{"name", check.name}, {"status", check.pass ? "pass" : "fail"}};
+    if (details && !check.detail.empty()) entry["detail"] = check.detail;
+    checks.push_back(entry);
+  }
+  return HttpResponse::Json(json{{"status", report.Pass() ? "pass" : "fail"},
+                                 {"checks", checks},
+                                 {"time", UtcNow()}}
+                                .dump());
+}
+
+// Open: 200 when every check passes, else 503 with Retry-After naming the failing checks, so
+// a supervisor or a script can gate on the status code alone.
+Result<HttpResponse> Ready(const ApiContext& context) {
+  const HealthReport report = RunChecks(context);
+  if (report.Pass()) return HttpResponse::Json(json{{"ready", true}}.dump());
+  HttpResponse response;
+  response.status = 503;
+  response.content_type = kProblemContentType;
+  response.body = ProblemJson(ProblemWithStatus(
+      503, "not ready: failing checks: " + report.FailingNames() + " (see /v1/health)"));
+  response.headers.emplace_back("Retry-After", "30");
+  return response;
 }
 
 Result<HttpResponse> Site(const ApiContext& context) {
@@ -302,8 +331,10 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
   } else {
     site->error = zone.status();
   }
-  // Unauthenticated: a supervisor or load balancer may ask whether the daemon is healthy.
-  server.Route("GET", "/v1/health", [context](const HttpRequest&) { return Health(context); });
+  // Open: a supervisor or load balancer may ask whether the daemon is healthy and ready.
+  server.Route("GET", "/v1/health",
+               [context](const HttpRequest& request) { return Health(context, request); });
+  server.Route("GET", "/v1/ready", [context](const HttpRequest&) { return Ready(context); });
   server.Route("GET", "/v1/site",
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest&, const Database&, const Scope&) {

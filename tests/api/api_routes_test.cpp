@@ -285,10 +285,12 @@ TEST_SUITE("api") {
       CHECK(forged->get_header_value("WWW-Authenticate") ==
             "Bearer realm=\"ampledger\", error=\"invalid_token\"");
     }
-    // Health needs no token: a supervisor asks it.
-    httplib::Result health = Get("/v1/health", "");
-    REQUIRE(health);
-    CHECK(health->status == 200);
+    // Health and readiness need no token: a supervisor asks them.
+    for (const char* open : {"/v1/health", "/v1/ready"}) {
+      httplib::Result answer = Get(open, "");
+      REQUIRE(answer);
+      CHECK(answer->status == 200);
+    }
     // A unit token's 404 on a site-wide route reads like a path that does not exist.
     CHECK(ProblemOf(Get("/v1/site", unit_a))["detail"] == "no resource at /v1/site");
     CHECK(ProblemOf(Get("/v1/nowhere", unit_a))["detail"] == "no resource at /v1/nowhere");
@@ -314,6 +316,36 @@ TEST_SUITE("api") {
     CHECK(live["units"]["watts"] == "W");
     CHECK(Ids(GetJson("/v1/live", unit_b)["circuits"]) == Strings{"b-heat"});
     CHECK(Ids(GetJson("/v1/live", viewer)["circuits"]).size() == 4);
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "health lists its checks, with details only for whole-site "
+                                "tokens; ready gates on them") {
+    json open = GetJson("/v1/health", "");
+    CHECK(open["status"] == "pass");
+    REQUIRE(open["checks"].size() == 3);
+    for (const json& check : open["checks"]) {
+      CHECK(check["status"] == "pass");
+      CHECK_FALSE(check.contains("detail"));  // anonymous callers learn no paths or sizes
+    }
+    CHECK(open["checks"][2]["name"] == "disk_free");
+    CHECK(ParseRfc3339(open["time"].get<std::string>()).has_value());
+    CHECK_FALSE(GetJson("/v1/health", unit_a)["checks"][2].contains("detail"));
+    const std::string detail = GetJson("/v1/health", viewer)["checks"][2]["detail"];
+    CHECK(detail.find(" bytes free in " + dir.path().string() + ", at least 67108864 needed") !=
+          std::string::npos);
+    CHECK(GetJson("/v1/ready", "") == json{{"ready", true}});
+
+    // A threshold no disk meets (read by the routes at each request).
+    config.storage.min_free_bytes = std::int64_t{1} << 50;
+    json failing = GetJson("/v1/health", "");
+    CHECK(failing["status"] == "fail");
+    CHECK(failing["checks"][2] == json{{"name", "disk_free"}, {"status", "fail"}});
+    httplib::Result ready = Get("/v1/ready", "");
+    REQUIRE(ready);
+    CHECK(ready->status == 503);
+    CHECK(ready->get_header_value("Retry-After") == "30");
+    CHECK(ProblemOf(ready)["detail"] ==
+          "not ready: failing checks: disk_free (see /v1/health)");
   }
 
   TEST_CASE_FIXTURE(ApiFixture, "a revoked token stops working at its next request") {
