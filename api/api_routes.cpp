@@ -7,6 +7,7 @@
 
 #include "api/access.h"
 #include "api/api_limits.h"
+#include "api/energy_route.h"
 #include "api/health.h"
 #include "api/metrics.h"
 #include "api/problem.h"
@@ -371,6 +372,14 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                        [context, site](const HttpRequest& request, const Database& db,
                                        const Scope& scope) {
                          return UnitSeries(context, *site, request, db, scope);
+                       }));
+  server.Route("GET", "/v1/energy",
+               Guarded(context, Reach::kScoped,
+                       [context, site](const HttpRequest& request, const Database& db,
+                                       const Scope& scope) -> Result<HttpResponse> {
+                         if (!site->zone) return site->error;
+                         return AnswerEnergy(request, *context.config, *context.series,
+                                             *site->zone, db, scope);
                        }));
   server.Route("GET", "/metrics",
                Guarded(context, Reach::kSiteWide,

@@ -5,10 +5,11 @@
 // are thread-safe.
 //
 // Every route but /v1/health and /v1/ready needs a bearer token (api/token.h), looked up on
-// that connection for each request: 401 with WWW-Authenticate when missing or invalid. Site-wide routes
-// (/v1/site, /v1/nodes, /metrics) need admin or viewer; a unit token gets the 404 of a path
-// that does not exist. /v1/live, /v1/circuits, /v1/units and the series show a unit token only
-// its own unit and circuits; the others answer 404 as for an unknown id.
+// that connection for each request: 401 with WWW-Authenticate when missing or invalid.
+// Site-wide routes (/v1/site, /v1/nodes, /metrics) need admin or viewer; a unit token gets
+// the 404 of a path that does not exist. /v1/live, /v1/circuits, /v1/units, the series and
+// /v1/energy show a unit token only its own unit and circuits; the others answer 404 as for
+// an unknown id.
 #pragma once
 
 #include <string>

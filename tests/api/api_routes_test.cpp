@@ -251,6 +251,7 @@ TEST_SUITE("api") {
         {"/v1/circuits/hall/series" + q, 200, 200, 404, 404},
         {"/v1/units/a/series" + q, 200, 200, 200, 404},
         {"/v1/units/b/series" + q, 200, 200, 404, 200},
+        {"/v1/energy?" + kSpringDay, 200, 200, 200, 200},
     };
     for (const Row& row : rows) {
       struct Case {
@@ -367,7 +368,9 @@ TEST_SUITE("api") {
     const std::string a = "/v1/circuits/a-heat/series?";
     const std::vector<Bad> table = {
         {a + "to=2026-03-09T00:00:00-05:00", 400, "\"from\": required"},
-        {a + "from=2026-03-08&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-03-08T00:00&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-3-08&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-02-29&to=2026-03-09", 400, "\"from\": \"2026-02-29\" is neither"},
         {a + "from=2026-03-08T00:00:00&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
         {a + "from=2026-13-08T00:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
         {a + "from=2026-02-30T00:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
@@ -401,6 +404,15 @@ TEST_SUITE("api") {
         {a + "from=2026-03-08T00:00:00-06:00%27%3B--&to=2026-03-09T00:00:00-05:00", 400,
          "\"from\""},
         {"/v1/circuits/a-heat", 404, "no resource"},
+        // Energy totals: bounds on quarter hours, in order, at most 400 days; known values.
+        {"/v1/energy?from=2026-03-08T00:05:00-06:00&to=2026-03-09", 400,
+         "\"from\": energy is kept per quarter hour"},
+        {"/v1/energy?from=2026-03-09&to=2026-03-08", 400, "\"to\": must be later"},
+        {"/v1/energy?from=2025-01-01&to=2026-03-08", 400, "longer than 400 days"},
+        {"/v1/energy?" + kSpringDay + "&by=node", 400, "\"by\": \"node\" is not circuit or unit"},
+        {"/v1/energy?" + kSpringDay + "&step=day", 400, "\"step\": not known here"},
+        {"/v1/energy?to=2026-03-09", 400, "\"from\": required"},
+        {"/v1/energy?" + kSpringDay + "&from=2026-03-01", 400, "given more than once"},
     };
     for (const Bad& bad : table) {
       CAPTURE(bad.path);
@@ -485,6 +497,97 @@ TEST_SUITE("api") {
     REQUIRE(month["points"].size() == 1);
     // 3 local days (71 hours) of a 743-hour month.
     CHECK(month["points"][0]["coverage"] == doctest::Approx(71.0 / 743.0).epsilon(1e-9));
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "energy by circuit and by unit equals the storage rollups; "
+                                "local dates are local midnights") {
+    // Local dates: the spring-forward day in America/Chicago is 23 hours (IANA tz).
+    const UnixMs from = At("2026-03-08T00:00:00-06:00");
+    const UnixMs to = At("2026-03-09T00:00:00-05:00");
+    json by_circuit = GetJson("/v1/energy?from=2026-03-08&to=2026-03-09", viewer);
+    CHECK(by_circuit["by"] == "circuit");
+    CHECK(by_circuit["from"] == "2026-03-08T00:00:00-06:00");
+    CHECK(by_circuit["to"] == "2026-03-09T00:00:00-05:00");
+    CHECK(by_circuit["time_zone"] == "America/Chicago");
+    CHECK(by_circuit["units"]["consumption_kwh"] == "kWh");
+    CHECK(by_circuit["units"]["apparent_energy_kvah"] == "kVAh");
+    REQUIRE(by_circuit["rows"].size() == 4);
+    double total_wh = 0;
+    for (int circuit = 0; circuit < 4; ++circuit) {
+      const json& row = by_circuit["rows"][circuit];
+      CAPTURE(row.dump());
+      CHECK(row["circuit"] == config.circuits[circuit].id);
+      const double rollup_wh = RollupWh({circuit}, from, to);
+      CHECK(row["consumption_kwh"].get<double>() * 1000 ==
+            doctest::Approx(rollup_wh).epsilon(1e-12));
+      CHECK(row["export_kwh"] == 0.0);
+      CHECK(row["coverage"] == doctest::Approx(1));
+      CHECK(row["quality"] == "measured");
+      total_wh += rollup_wh;
+    }
+    // Circuit 0 is channel 0 (a-heat): the readings themselves.
+    CHECK(by_circuit["rows"][0]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(TruthWh(0, from, to)).epsilon(1e-9));
+    CHECK(by_circuit["rows"][3]["unit"].is_null());
+    CHECK(by_circuit["total"]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(total_wh).epsilon(1e-12));
+    // The same range in RFC 3339 is the same answer; the series' total agrees.
+    CHECK(GetJson("/v1/energy?" + kSpringDay, viewer) == by_circuit);
+    CHECK(GetJson("/v1/circuits/a-heat/series?from=2026-03-08&to=2026-03-09&step=day",
+                  viewer)["total_energy_kwh"] == by_circuit["rows"][0]["consumption_kwh"]);
+
+    json by_unit = GetJson("/v1/energy?" + kFallDay + "&by=unit", admin);
+    const UnixMs fall_from = At("2026-11-01T00:00:00-05:00");
+    const UnixMs fall_to = At("2026-11-02T00:00:00-06:00");
+    REQUIRE(by_unit["rows"].size() == 3);
+    CHECK(by_unit["rows"][0]["unit"] == "a");
+    CHECK(by_unit["rows"][0]["circuits"] == json::array({"a-heat", "a-kitchen"}));
+    CHECK(by_unit["rows"][0]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(RollupWh({0, 1}, fall_from, fall_to)).epsilon(1e-12));
+    CHECK(by_unit["rows"][1]["unit"] == "b");
+    CHECK(by_unit["rows"][2]["unit"].is_null());  // the hall lights belong to no unit
+    CHECK(by_unit["rows"][2]["circuits"] == json::array({"hall"}));
+    CHECK(by_unit["total"]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(RollupWh({0, 1, 2, 3}, fall_from, fall_to)).epsilon(1e-12));
+
+    // A unit token sees its own unit and circuits only, and no row of circuits of no unit.
+    json own = GetJson("/v1/energy?" + kFallDay + "&by=unit", unit_b);
+    REQUIRE(own["rows"].size() == 1);
+    CHECK(own["rows"][0]["unit"] == "b");
+    json circuits_of_a = GetJson("/v1/energy?" + kFallDay, unit_a);
+    REQUIRE(circuits_of_a["rows"].size() == 2);
+    CHECK(circuits_of_a["rows"][1]["circuit"] == "a-kitchen");
+
+    // A range with no data has zero energy, coverage 0 and no quality.
+    json empty = GetJson("/v1/energy?from=2026-06-01&to=2026-06-02&by=unit", viewer);
+    CHECK(empty["rows"][0]["consumption_kwh"] == 0.0);
+    CHECK(empty["rows"][0]["coverage"] == 0.0);
+    CHECK(empty["rows"][0]["quality"].is_null());
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "energy as CSV (RFC 4180)") {
+    httplib::Result csv = Get("/v1/energy?" + kSpringDay + "&by=unit&format=csv", viewer);
+    REQUIRE(csv);
+    CHECK(csv->status == 200);
+    CHECK(csv->get_header_value("Content-Type").rfind("text/csv", 0) == 0);
+    CHECK(csv->get_header_value("Ampledger-Time-Zone") == "America/Chicago");
+    const std::string& body = csv->body;
+    // RFC 4180 section 2: a header line, CRLF after every record, quoted fields with commas.
+    const std::string header = "from,to,unit,name,circuits,consumption_kwh,export_kwh,"
+                               "apparent_energy_kvah,coverage,quality\r\n";
+    REQUIRE(body.rfind(header, 0) == 0);
+    CHECK(body.find("\r\n2026-03-08T00:00:00-06:00,2026-03-09T00:00:00-05:00,a,a,"
+                    "a-heat a-kitchen,") != std::string::npos);
+    CHECK(body.find(",,\"shared circuits, and circuits of no unit\",hall,") != std::string::npos);
+    int records = 0;
+    for (size_t at = body.find("\r\n"); at != std::string::npos; at = body.find("\r\n", at + 2)) {
+      ++records;
+    }
+    CHECK(records == 4);  // the header and three rows
+    CHECK(body.back() == '\n');
+    httplib::Result accepted = Get("/v1/energy?" + kSpringDay + "&by=unit", viewer, "text/csv");
+    REQUIRE(accepted);
+    CHECK(accepted->body == body);
   }
 
   TEST_CASE_FIXTURE(ApiFixture, "series as CSV (RFC 4180) and raw readings") {
