@@ -10,6 +10,7 @@
 #include "api/energy_route.h"
 #include "api/health.h"
 #include "api/metrics.h"
+#include "api/openapi_document.h"
 #include "api/problem.h"
 #include "api/rfc3339.h"
 #include "api/series_route.h"
@@ -336,6 +337,10 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
   server.Route("GET", "/v1/health",
                [context](const HttpRequest& request) { return Health(context, request); });
   server.Route("GET", "/v1/ready", [context](const HttpRequest&) { return Ready(context); });
+  // Open: the API's description is public (it is in the source).
+  server.Route("GET", "/v1/openapi.json", [](const HttpRequest&) -> Result<HttpResponse> {
+    return HttpResponse::Json(kOpenApiDocument);
+  });
   server.Route("GET", "/v1/site",
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest&, const Database&, const Scope&) {

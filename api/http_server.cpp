@@ -13,6 +13,7 @@ namespace {
 
 struct RouteEntry {
   std::string method;
+  std::string pattern_text;
   std::regex pattern;
   HttpHandler handler;
 };
@@ -194,7 +195,15 @@ HttpServer::~HttpServer() { impl_->Stop(); }
 
 void HttpServer::Route(const std::string& method, const std::string& pattern,
                        HttpHandler handler) {
-  impl_->routes_.push_back({method, std::regex(pattern), std::move(handler)});
+  impl_->routes_.push_back({method, pattern, std::regex(pattern), std::move(handler)});
+}
+
+std::vector<std::pair<std::string, std::string>> HttpServer::Routes() const {
+  std::vector<std::pair<std::string, std::string>> routes;
+  for (const RouteEntry& route : impl_->routes_) {
+    routes.emplace_back(route.method, route.pattern_text);
+  }
+  return routes;
 }
 
 Status HttpServer::Start() { return impl_->Start(); }

@@ -61,6 +61,9 @@ class HttpServer {
   // `pattern` is a regular expression over the whole path ("/v1/circuits/([^/]+)").
   void Route(const std::string& method, const std::string& pattern, HttpHandler handler);
 
+  // The routes added so far as (method, pattern), in the order added.
+  std::vector<std::pair<std::string, std::string>> Routes() const;
+
   // Binds config.listen and starts serving on a thread of its own. Port 0 picks a free port.
   Status Start();
   void Stop();

@@ -9,6 +9,8 @@
 
 #include <chrono>
 #include <future>
+#include <regex>
+#include <set>
 #include <nlohmann/json.hpp>
 
 #include "api/rfc3339.h"
@@ -347,6 +349,37 @@ TEST_SUITE("api") {
     CHECK(ready->get_header_value("Retry-After") == "30");
     CHECK(ProblemOf(ready)["detail"] ==
           "not ready: failing checks: disk_free (see /v1/health)");
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "the OpenAPI document is served and lists every route the "
+                                "server has, and no other") {
+    const json document = GetJson("/v1/openapi.json", "");
+    CHECK(document == json::parse(testing::ReadFile(testing::SourceDir() / "api/openapi.json")));
+    CHECK(document["openapi"] == "3.1.0");
+    // "GET /v1/circuits/{}/series" from the server's pattern and from the document's path.
+    std::set<std::string> served, documented;
+    for (const auto& [method, pattern] : server.Routes()) {
+      served.insert(method + " " +
+                    std::regex_replace(pattern, std::regex(R"(\(\[\^/\]\+\))"), "{}"));
+    }
+    for (const auto& [path, item] : document["paths"].items()) {
+      for (const auto& [method, operation] : item.items()) {
+        std::string upper = method;
+        for (char& c : upper) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+        documented.insert(upper + " " +
+                          std::regex_replace(path, std::regex(R"(\{[^}]+\})"), "{}"));
+      }
+    }
+    CHECK(served.count("GET /v1/circuits/{}/series") == 1);  // patterns became templates
+    CHECK(served == documented);
+    // Each documented open route answers without a token; each guarded one asks for it.
+    for (const auto& [path, item] : document["paths"].items()) {
+      if (path.find('{') != std::string::npos) continue;
+      CAPTURE(path);
+      const bool open = item["get"].contains("security") && item["get"]["security"].size() > 0 &&
+                        item["get"]["security"][0].empty();
+      CHECK((Get(path, "")->status == 401) == !open);
+    }
   }
 
   TEST_CASE_FIXTURE(ApiFixture, "a revoked token stops working at its next request") {
