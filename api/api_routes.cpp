@@ -151,7 +151,9 @@ std::uint64_t FileBytes(const std::string& path) {
   return error ? 0 : size;
 }
 
-Result<HttpResponse> Metrics(const ApiContext& context, const Database& db) {
+// OpenMetrics for a scraper that asks for it, else the Prometheus text format (api/metrics.h).
+Result<HttpResponse> Metrics(const ApiContext& context, const Database& db,
+                             const HttpRequest& request) {
   const UnixMs now = WallClockMs();
   Result<std::vector<ChannelReading>> latest = LatestReadings(context, db, now);
   if (!latest.ok()) return latest.status();
@@ -176,9 +178,12 @@ Result<HttpResponse> Metrics(const ApiContext& context, const Database& db) {
   for (size_t i = 0; i < live.size(); ++i) {
     if (seen[i]) snapshot.live.push_back(live[i]);
   }
+  const bool open_metrics =
+      request.accept.find("application/openmetrics-text") != std::string::npos;
   HttpResponse response;
-  response.content_type = kOpenMetricsContentType;
-  response.body = FormatOpenMetrics(snapshot);
+  response.content_type = open_metrics ? kOpenMetricsContentType : kPrometheusTextContentType;
+  response.body = FormatMetrics(
+      snapshot, open_metrics ? MetricsFormat::kOpenMetrics : MetricsFormat::kPrometheusText);
   return response;
 }
 
@@ -388,9 +393,8 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                        }));
   server.Route("GET", "/metrics",
                Guarded(context, Reach::kSiteWide,
-                       [context](const HttpRequest&, const Database& db, const Scope&) {
-                         return Metrics(context, db);
-                       }));
+                       [context](const HttpRequest& request, const Database& db,
+                                 const Scope&) { return Metrics(context, db, request); }));
 }
 
 }  // namespace ampledger

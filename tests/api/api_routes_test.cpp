@@ -382,6 +382,57 @@ TEST_SUITE("api") {
     }
   }
 
+  // Runs `command` in a shell with its output to a file in `dir`; the exit status and output.
+  static std::pair<int, std::string> Shell(const testing::TempDir& dir,
+                                           const std::string& command) {
+    const std::string output = dir.File("shell.txt");
+    const int status = std::system((command + " > '" + output + "' 2>&1").c_str());
+    return {status, testing::ReadFile(output)};
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "/metrics passes promtool's checks in both formats") {
+    // promtool is the Prometheus project's checker (Debian package prometheus).
+    httplib::Result plain = Get("/metrics", viewer);
+    REQUIRE(plain);
+    REQUIRE(plain->status == 200);
+    CHECK(plain->get_header_value("Content-Type") == "text/plain; version=0.0.4; charset=utf-8");
+    CHECK(plain->body.find("ampledger_circuit_power_watts{circuit=\"hall\"") !=
+          std::string::npos);
+    // `check metrics` parses the Prometheus text format and lints names, types and help; it
+    // prints nothing when all is well.
+    testing::WriteFile(dir.File("metrics.txt"), plain->body);
+    auto [status, report] =
+        Shell(dir, "promtool check metrics < '" + dir.File("metrics.txt") + "'");
+    CHECK_MESSAGE(status == 0, report);
+    CHECK_MESSAGE(report.empty(), report);
+
+    // OpenMetrics, as a scraper asks for it. promtool reads it with Prometheus's OpenMetrics
+    // parser when it imports samples into blocks; that import needs a timestamp on each
+    // sample, so one is added to every sample line (OpenMetrics allows it).
+    httplib::Result open =
+        Get("/metrics", viewer, "application/openmetrics-text; version=1.0.0");
+    REQUIRE(open);
+    REQUIRE(open->status == 200);
+    CHECK(open->get_header_value("Content-Type") ==
+          "application/openmetrics-text; version=1.0.0; charset=utf-8");
+    std::string stamped;
+    int samples = 0;
+    for (size_t start = 0; start < open->body.size();) {
+      const size_t end = open->body.find('\n', start);
+      const std::string line = open->body.substr(start, end - start);
+      stamped += line + (line.rfind("#", 0) == 0 ? "" : " 1767225600") + "\n";
+      samples += line.rfind("#", 0) == 0 ? 0 : 1;
+      start = end + 1;
+    }
+    testing::WriteFile(dir.File("openmetrics.txt"), stamped);
+    auto [imported, log] = Shell(dir, "promtool tsdb create-blocks-from openmetrics '" +
+                                          dir.File("openmetrics.txt") + "' '" +
+                                          dir.File("blocks") + "'");
+    CHECK_MESSAGE(imported == 0, log);
+    // Its summary table ends with the block's sample count.
+    CHECK_MESSAGE(log.find("  " + std::to_string(samples) + "  ") != std::string::npos, log);
+  }
+
   TEST_CASE_FIXTURE(ApiFixture, "a revoked token stops working at its next request") {
     Result<IssuedToken> issued = IssueToken(*tokens_db, *ParseScope("viewer"), "spare", 0);
     REQUIRE(issued.ok());
