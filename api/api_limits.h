@@ -15,6 +15,10 @@ inline constexpr int kMaxSeriesPoints = 10000;
 // the range times every channel's rows (storage/queries.h): raw ranges are kept short.
 inline constexpr UnixMs kMaxRawRangeMs = 2 * 86400 * kMsPerSecond;
 
+// The longest range /v1/energy sums: any 12 billing cycles or calendar year fits. Its work
+// is one row per circuit per quarter hour of the range (about 38,000 rows per circuit).
+inline constexpr UnixMs kMaxEnergyRangeMs = 400 * 86400 * kMsPerSecond;
+
 // Live values come from readings ending within this long before now; older ones are stale.
 inline constexpr UnixMs kLiveHorizonMs = 3600 * kMsPerSecond;
 

@@ -1,15 +1,18 @@
 #include "api/api_routes.h"
 
-#include <sys/statvfs.h>
-
 #include <chrono>
 #include <filesystem>
+#include <optional>
 #include <nlohmann/json.hpp>
 
 #include "api/access.h"
 #include "api/api_limits.h"
+#include "api/energy_route.h"
+#include "api/health.h"
 #include "api/metrics.h"
+#include "api/openapi_document.h"
 #include "api/problem.h"
+#include "api/rfc3339.h"
 #include "api/series_route.h"
 #include "api/token.h"
 #include "config/wall_clock.h"
@@ -22,29 +25,57 @@ namespace {
 
 using nlohmann::json;
 
-// Below this much free space the daemon is still running but not ready: SQLite needs room
-// for the WAL and checkpoints (common practice: keep well clear of a full disk).
-constexpr std::uint64_t kMinFreeBytes = 64ull << 20;
-
-std::uint64_t FreeBytes(const std::string& database_path) {
-  struct statvfs info {};
-  std::string folder = std::filesystem::path(database_path).parent_path().string();
-  if (::statvfs(folder.empty() ? "." : folder.c_str(), &info) != 0) return 0;
-  return static_cast<std::uint64_t>(info.f_bavail) * info.f_frsize;
+// A request's scope, if it carries a valid token; nullopt without one (open routes).
+std::optional<Scope> OptionalScope(const ApiContext& context, const HttpRequest& request) {
+  if (request.authorization.empty()) return std::nullopt;
+  Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
+  if (!db.ok()) return std::nullopt;
+  Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
+  return scope.ok() ? *scope : std::nullopt;
 }
 
-Result<HttpResponse> Health(const ApiContext& context) {
-  Status writer = context.writer->Health();
-  std::uint64_t free_bytes = FreeBytes(context.database_path);
-  bool ready = writer.ok() && free_bytes >= kMinFreeBytes;
-  json body = {
-      {"status", ready ? "ready" : "degraded"},
-      {"writer", writer.ok() ? "ok" : writer.ToString()},
-      {"disk_free_bytes", free_bytes},
-      {"time", WallClockMs()},
-  };
-  // 503 tells a load balancer or script that acknowledgements have stopped.
-  return HttpResponse::Json(body.dump(), ready ? 200 : 503);
+// Now as RFC 3339 in UTC ("2026-12-02T01:10:18.250Z").
+std::string UtcNow() {
+  static const Result<LocalTime> utc = LocalTime::ForZone("UTC");
+  return utc.ok() ? FormatLocalRfc3339(*utc, WallClockMs()) : std::to_string(WallClockMs());
+}
+
+HealthReport RunChecks(const ApiContext& context) {
+  return CheckHealth(context.writer->Health(), context.database_path,
+                     static_cast<std::uint64_t>(context.config->storage.min_free_bytes));
+}
+
+// Open: pass or fail per check, and why only for a whole-site token (details name paths and
+// SQLite errors). 200 whenever the daemon can answer: a full disk should take the daemon out
+// of service (/v1/ready), not get it restarted by a liveness probe, which would not help.
+Result<HttpResponse> Health(const ApiContext& context, const HttpRequest& request) {
+  const HealthReport report = RunChecks(context);
+  const std::optional<Scope> scope = OptionalScope(context, request);
+  const bool details = scope && scope->SeesWholeSite();
+  json checks = json::array();
+  for (const HealthCheck& check : report.checks) {
+    json entry = {{"name", check.name}, {"status", check.pass ? "pass" : "fail"}};
+    if (details && !check.detail.empty()) entry["detail"] = check.detail;
+    checks.push_back(entry);
+  }
+  return HttpResponse::Json(json{{"status", report.Pass() ? "pass" : "fail"},
+                                 {"checks", checks},
+                                 {"time", UtcNow()}}
+                                .dump());
+}
+
+// Open: 200 when every check passes, else 503 with Retry-After naming the failing checks, so
+// a supervisor or a script can gate on the status code alone.
+Result<HttpResponse> Ready(const ApiContext& context) {
+  const HealthReport report = RunChecks(context);
+  if (report.Pass()) return HttpResponse::Json(json{{"ready", true}}.dump());
+  HttpResponse response;
+  response.status = 503;
+  response.content_type = kProblemContentType;
+  response.body = ProblemJson(ProblemWithStatus(
+      503, "not ready: failing checks: " + report.FailingNames() + " (see /v1/health)"));
+  response.headers.emplace_back("Retry-After", "30");
+  return response;
 }
 
 Result<HttpResponse> Site(const ApiContext& context) {
@@ -120,7 +151,9 @@ std::uint64_t FileBytes(const std::string& path) {
   return error ? 0 : size;
 }
 
-Result<HttpResponse> Metrics(const ApiContext& context, const Database& db) {
+// OpenMetrics for a scraper that asks for it, else the Prometheus text format (api/metrics.h).
+Result<HttpResponse> Metrics(const ApiContext& context, const Database& db,
+                             const HttpRequest& request) {
   const UnixMs now = WallClockMs();
   Result<std::vector<ChannelReading>> latest = LatestReadings(context, db, now);
   if (!latest.ok()) return latest.status();
@@ -145,9 +178,12 @@ Result<HttpResponse> Metrics(const ApiContext& context, const Database& db) {
   for (size_t i = 0; i < live.size(); ++i) {
     if (seen[i]) snapshot.live.push_back(live[i]);
   }
+  const bool open_metrics =
+      request.accept.find("application/openmetrics-text") != std::string::npos;
   HttpResponse response;
-  response.content_type = kOpenMetricsContentType;
-  response.body = FormatOpenMetrics(snapshot);
+  response.content_type = open_metrics ? kOpenMetricsContentType : kPrometheusTextContentType;
+  response.body = FormatMetrics(
+      snapshot, open_metrics ? MetricsFormat::kOpenMetrics : MetricsFormat::kPrometheusText);
   return response;
 }
 
@@ -253,9 +289,6 @@ enum class Reach {
   kSiteWide,  // admin or viewer; a unit token is told the route does not exist
 };
 
-// Whether a request without a token may still be answered (ApiContext::anonymous_status_routes).
-enum class Anonymous { kRefused, kAllowedWhenConfigured };
-
 using ScopedHandler =
     std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;
 
@@ -274,16 +307,11 @@ HttpResponse Unauthorized(const std::string& detail, bool token_presented) {
 
 // Wraps `handler` so it runs only for a valid bearer token, on the request's own reader
 // connection. The token is looked up on every request, so a revoked token stops at once.
-HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handler,
-                    Anonymous anonymous = Anonymous::kRefused) {
-  return [context, reach, handler = std::move(handler), anonymous](
+HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handler) {
+  return [context, reach, handler = std::move(handler)](
              const HttpRequest& request) -> Result<HttpResponse> {
     Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
     if (!db.ok()) return db.status();
-    if (request.authorization.empty() && context.anonymous_status_routes &&
-        anonymous == Anonymous::kAllowedWhenConfigured) {
-      return handler(request, **db, Scope{Scope::Kind::kViewer, ""});
-    }
     Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
     if (!scope.ok()) return scope.status();
     if (!scope->has_value()) {
@@ -310,8 +338,14 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
   } else {
     site->error = zone.status();
   }
-  // Unauthenticated: a supervisor or load balancer may ask whether the daemon is healthy.
-  server.Route("GET", "/v1/health", [context](const HttpRequest&) { return Health(context); });
+  // Open: a supervisor or load balancer may ask whether the daemon is healthy and ready.
+  server.Route("GET", "/v1/health",
+               [context](const HttpRequest& request) { return Health(context, request); });
+  server.Route("GET", "/v1/ready", [context](const HttpRequest&) { return Ready(context); });
+  // Open: the API's description is public (it is in the source).
+  server.Route("GET", "/v1/openapi.json", [](const HttpRequest&) -> Result<HttpResponse> {
+    return HttpResponse::Json(kOpenApiDocument);
+  });
   server.Route("GET", "/v1/site",
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest&, const Database&, const Scope&) {
@@ -321,14 +355,12 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest&, const Database&, const Scope&) {
                          return Nodes(context);
-                       },
-                       Anonymous::kAllowedWhenConfigured));
+                       }));
   server.Route("GET", "/v1/live",
                Guarded(context, Reach::kScoped,
                        [context](const HttpRequest&, const Database& db, const Scope& scope) {
                          return Live(context, db, scope);
-                       },
-                       Anonymous::kAllowedWhenConfigured));
+                       }));
   server.Route("GET", "/v1/circuits",
                Guarded(context, Reach::kScoped,
                        [context](const HttpRequest&, const Database&, const Scope& scope) {
@@ -351,11 +383,18 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                                        const Scope& scope) {
                          return UnitSeries(context, *site, request, db, scope);
                        }));
+  server.Route("GET", "/v1/energy",
+               Guarded(context, Reach::kScoped,
+                       [context, site](const HttpRequest& request, const Database& db,
+                                       const Scope& scope) -> Result<HttpResponse> {
+                         if (!site->zone) return site->error;
+                         return AnswerEnergy(request, *context.config, *context.series,
+                                             *site->zone, db, scope);
+                       }));
   server.Route("GET", "/metrics",
                Guarded(context, Reach::kSiteWide,
-                       [context](const HttpRequest&, const Database& db, const Scope&) {
-                         return Metrics(context, db);
-                       }));
+                       [context](const HttpRequest& request, const Database& db,
+                                 const Scope&) { return Metrics(context, db, request); }));
 }
 
 }  // namespace ampledger

@@ -4,11 +4,13 @@
 // read while the writer writes), and reads the writer's health and the ingest counters, which
 // are thread-safe.
 //
-// Every route but /v1/health needs a bearer token (api/token.h), looked up on that connection
-// for each request: 401 with WWW-Authenticate when missing or invalid. Site-wide routes
-// (/v1/site, /v1/nodes, /metrics) need admin or viewer; a unit token gets the 404 of a path
-// that does not exist. /v1/live, /v1/circuits, /v1/units and the series show a unit token only
-// its own unit and circuits; the others answer 404 as for an unknown id.
+// Every route but /v1/health, /v1/ready and /v1/openapi.json (the OpenAPI 3.1 description of
+// them all, api/openapi.json) needs a bearer token (api/token.h), looked up on that
+// connection for each request: 401 with WWW-Authenticate when missing or invalid.
+// Site-wide routes (/v1/site, /v1/nodes, /metrics) need admin or viewer; a unit token gets
+// the 404 of a path that does not exist. /v1/live, /v1/circuits, /v1/units, the series and
+// /v1/energy show a unit token only its own unit and circuits; the others answer 404 as for
+// an unknown id.
 #pragma once
 
 #include <string>
@@ -30,10 +32,6 @@ struct ApiContext {
   const ReadingWriter* writer;
   const IngestStats* ingest;
   const UdpReceiver* receiver;  // for the kernel's drop count
-  // When set, /v1/nodes and /v1/live answer a request with no Authorization header as they
-  // did before tokens existed (as for a viewer). Only for callers that do not send a token
-  // yet; a presented token is always checked.
-  bool anonymous_status_routes = false;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);

@@ -61,7 +61,13 @@ class HttpServer {
   // `pattern` is a regular expression over the whole path ("/v1/circuits/([^/]+)").
   void Route(const std::string& method, const std::string& pattern, HttpHandler handler);
 
+  // The routes added so far as (method, pattern), in the order added.
+  std::vector<std::pair<std::string, std::string>> Routes() const;
+
   // Binds config.listen and starts serving on a thread of its own. Port 0 picks a free port.
+  // With config.tls_certificate and tls_private_key, serves HTTPS (TLS 1.2 or later);
+  // InvalidArgument names the key and file when a file cannot be read or the pair is not a
+  // PEM certificate chain and its matching private key.
   Status Start();
   void Stop();
   std::uint16_t port() const;

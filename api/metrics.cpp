@@ -29,60 +29,88 @@ std::string Float(double value) {
   return result;
 }
 
-void Family(std::string& out, const char* name, const char* type, const char* help,
-            const char* unit = nullptr) {
-  out += std::string("# TYPE ") + name + " " + type + "\n";
-  if (unit) out += std::string("# UNIT ") + name + " " + unit + "\n";
-  out += std::string("# HELP ") + name + " " + help + "\n";
-}
+// Writes the exposition's lines in either format.
+class Exposition {
+ public:
+  explicit Exposition(MetricsFormat format) : format_(format) {}
 
-void Counter(std::string& out, const char* name, const char* help, std::uint64_t value) {
-  Family(out, name, "counter", help);
-  out += std::string(name) + "_total " + std::to_string(value) + "\n";
-}
+  // The metadata lines of a family. A counter's samples are named <name>_total; OpenMetrics
+  // names the family <name>, the Prometheus text format names it as its samples.
+  void Family(const char* name, const char* type, const char* help, const char* unit = nullptr) {
+    std::string family = name;
+    if (format_ == MetricsFormat::kPrometheusText && std::string(type) == "counter") {
+      family += "_total";
+    }
+    out_ += "# TYPE " + family + " " + type + "\n";
+    if (unit && format_ == MetricsFormat::kOpenMetrics) {
+      out_ += "# UNIT " + family + " " + unit + "\n";
+    }
+    out_ += "# HELP " + family + " " + help + "\n";
+  }
+
+  void Counter(const char* name, const char* help, std::uint64_t value) {
+    Family(name, "counter", help);
+    out_ += std::string(name) + "_total " + std::to_string(value) + "\n";
+  }
+
+  std::string& text() { return out_; }
+
+  std::string Finish() {
+    if (format_ == MetricsFormat::kOpenMetrics) out_ += "# EOF\n";
+    return std::move(out_);
+  }
+
+ private:
+  MetricsFormat format_;
+  std::string out_;
+};
 
 }  // namespace
 
-std::string FormatOpenMetrics(const MetricsSnapshot& snapshot) {
+std::string FormatMetrics(const MetricsSnapshot& snapshot, MetricsFormat format) {
   const IngestStats& ingest = *snapshot.ingest;
-  std::string out;
-  Counter(out, "ampledger_datagrams_received", "UDP datagrams read from the socket.",
-          ingest.received.load());
-  Counter(out, "ampledger_datagrams_stored", "Datagrams whose readings were committed.",
-          ingest.stored.load());
-  Counter(out, "ampledger_datagrams_duplicate",
-          "Datagrams already stored, acknowledged again without storing.",
-          ingest.duplicates.load());
-  Family(out, "ampledger_datagrams_refused", "counter", "Datagrams refused, by reason.");
+  Exposition exposition(format);
+  std::string& out = exposition.text();
+  exposition.Counter("ampledger_datagrams_received", "UDP datagrams read from the socket.",
+                     ingest.received.load());
+  exposition.Counter("ampledger_datagrams_stored", "Datagrams whose readings were committed.",
+                     ingest.stored.load());
+  exposition.Counter("ampledger_datagrams_duplicate",
+                     "Datagrams already stored, acknowledged again without storing.",
+                     ingest.duplicates.load());
+  exposition.Family("ampledger_datagrams_refused", "counter", "Datagrams refused, by reason.");
   for (int reason = 0; reason < kRefusalReasonCount; ++reason) {
     out += std::string("ampledger_datagrams_refused_total{reason=\"") +
            EscapeLabel(RefusalName(static_cast<RefusalReason>(reason))) + "\"} " +
            std::to_string(ingest.refused[reason].load()) + "\n";
   }
-  Counter(out, "ampledger_datagrams_kernel_dropped",
-          "Datagrams the kernel dropped because the receive buffer was full.",
-          snapshot.kernel_drops);
-  Counter(out, "ampledger_write_failures", "Datagrams the writer could not store (no ack sent).",
-          ingest.write_failures.load());
-  Counter(out, "ampledger_acks_sent", "Acknowledgements sent to nodes.", ingest.acks_sent.load());
-  Counter(out, "ampledger_readings_stored", "Channel readings committed.",
-          ingest.readings_stored.load());
+  exposition.Counter("ampledger_datagrams_kernel_dropped",
+                     "Datagrams the kernel dropped because the receive buffer was full.",
+                     snapshot.kernel_drops);
+  exposition.Counter("ampledger_write_failures",
+                     "Datagrams the writer could not store (no ack sent).",
+                     ingest.write_failures.load());
+  exposition.Counter("ampledger_acks_sent", "Acknowledgements sent to nodes.",
+                     ingest.acks_sent.load());
+  exposition.Counter("ampledger_readings_stored", "Channel readings committed.",
+                     ingest.readings_stored.load());
 
-  Family(out, "ampledger_writer_healthy", "gauge",
-         "1 while the writer accepts readings; 0 after an error stopped it (see /v1/health).");
+  exposition.Family(
+      "ampledger_writer_healthy", "gauge",
+      "1 while the writer accepts readings; 0 after an error stopped it (see /v1/health).");
   out += std::string("ampledger_writer_healthy ") + (snapshot.writer_healthy ? "1" : "0") + "\n";
-  Family(out, "ampledger_database_bytes", "gauge", "Size of the database file and its WAL.",
-         "bytes");
+  exposition.Family("ampledger_database_bytes", "gauge", "Size of the database file and its WAL.",
+                    "bytes");
   out += "ampledger_database_bytes " + std::to_string(snapshot.database_bytes) + "\n";
 
-  Family(out, "ampledger_circuit_power_watts", "gauge",
-         "Latest mean real power per circuit (export circuits: power exported).", "watts");
+  exposition.Family("ampledger_circuit_power_watts", "gauge",
+                    "Latest mean real power per circuit (export circuits: power exported).",
+                    "watts");
   for (const CircuitPower& power : snapshot.live) {
     out += "ampledger_circuit_power_watts{circuit=\"" + EscapeLabel(power.circuit) +
            "\",direction=\"" + EscapeLabel(power.direction) + "\"} " + Float(power.watts) + "\n";
   }
-  out += "# EOF\n";
-  return out;
+  return exposition.Finish();
 }
 
 }  // namespace ampledger

@@ -1,7 +1,11 @@
 // api/metrics.h
-// The /metrics exposition in the OpenMetrics 1.0 text format: ingest counters by outcome and
-// refusal reason, readings stored, the writer's health, the database's size, and live power
-// per circuit as gauges. Pure formatting over values the caller collected; any thread.
+// The /metrics exposition: ingest counters by outcome and refusal reason, readings stored, the
+// writer's health, the database's size, and live power per circuit as gauges. In the
+// OpenMetrics 1.0 text format for scrapers that ask for it (Accept:
+// application/openmetrics-text, as Prometheus does), else in the Prometheus text format 0.0.4
+// that older scrapers and promtool read. The two differ only in how a counter's family is
+// named (OpenMetrics: without "_total"), in UNIT lines and in the closing "# EOF".
+// Pure formatting over values the caller collected; any thread.
 #pragma once
 
 #include <cstdint>
@@ -14,6 +18,10 @@ namespace ampledger {
 
 inline constexpr const char* kOpenMetricsContentType =
     "application/openmetrics-text; version=1.0.0; charset=utf-8";
+inline constexpr const char* kPrometheusTextContentType =
+    "text/plain; version=0.0.4; charset=utf-8";
+
+enum class MetricsFormat { kOpenMetrics, kPrometheusText };
 
 struct CircuitPower {
   std::string circuit;
@@ -29,7 +37,7 @@ struct MetricsSnapshot {
   std::vector<CircuitPower> live;    // circuits with a reading in the last few minutes
 };
 
-// The whole exposition, ending with "# EOF\n".
-std::string FormatOpenMetrics(const MetricsSnapshot& snapshot);
+// The whole exposition; in OpenMetrics it ends with "# EOF\n".
+std::string FormatMetrics(const MetricsSnapshot& snapshot, MetricsFormat format);
 
 }  // namespace ampledger

@@ -2,11 +2,12 @@
 #include "api/series_route.h"
 
 #include <algorithm>
-#include <cstdio>
 #include <nlohmann/json.hpp>
 
 #include "api/api_limits.h"
+#include "api/csv.h"
 #include "api/energy_series.h"
+#include "api/query_parameters.h"
 #include "api/rfc3339.h"
 #include "storage/queries.h"
 
@@ -31,38 +32,14 @@ struct SeriesQuery {
   bool csv = false;
 };
 
-Result<UnixMs> TimeParameter(const HttpRequest& request, const char* name) {
-  const std::string* text = request.Query(name);
-  if (text == nullptr) {
-    return Status::InvalidArgument(std::string("query parameter \"") + name +
-                                   "\": required, an RFC 3339 time with a UTC offset");
-  }
-  std::optional<UnixMs> instant = ParseRfc3339(*text);
-  if (!instant) {
-    return Status::InvalidArgument(std::string("query parameter \"") + name + "\": \"" + *text +
-                                   "\" is not an RFC 3339 time with a UTC offset "
-                                   "(e.g. 2026-03-08T00:00:00-06:00)");
-  }
-  return *instant;
-}
-
-Result<SeriesQuery> ParseQuery(const HttpRequest& request) {
-  static const char* const kKnown[] = {"from", "to", "step", "format"};
-  for (const auto& [name, value] : request.query) {
-    bool known = false;
-    for (const char* candidate : kKnown) known = known || name == candidate;
-    if (!known) {
-      return Status::InvalidArgument("query parameter \"" + name +
-                                     "\": not known here (from, to, step, format)");
-    }
-    if (request.query.count(name) > 1) {
-      return Status::InvalidArgument("query parameter \"" + name + "\": given more than once");
-    }
+Result<SeriesQuery> ParseQuery(const HttpRequest& request, const LocalTime& zone) {
+  if (Status known = CheckParameters(request, {"from", "to", "step", "format"}); !known.ok()) {
+    return known;
   }
   SeriesQuery query;
-  Result<UnixMs> from = TimeParameter(request, "from");
+  Result<UnixMs> from = ParseTimeParameter(request, "from", zone);
   if (!from.ok()) return from.status();
-  Result<UnixMs> to = TimeParameter(request, "to");
+  Result<UnixMs> to = ParseTimeParameter(request, "to", zone);
   if (!to.ok()) return to.status();
   query.from_ms = *from;
   query.to_ms = *to;
@@ -71,38 +48,15 @@ Result<SeriesQuery> ParseQuery(const HttpRequest& request) {
     if (!parsed.ok()) return parsed.status();
     query.step = *parsed;
   }
-  if (const std::string* format = request.Query("format")) {
-    if (*format != "json" && *format != "csv") {
-      return Status::InvalidArgument("query parameter \"format\": \"" + *format +
-                                     "\" is not json or csv");
-    }
-    query.csv = *format == "csv";
-  } else {
-    query.csv = request.accept.find("text/csv") != std::string::npos;
-  }
+  Result<bool> csv = WantsCsv(request);
+  if (!csv.ok()) return csv.status();
+  query.csv = *csv;
   return query;
-}
-
-// RFC 4180: fields with a comma, quote or line break are quoted, quotes doubled.
-std::string CsvField(const std::string& text) {
-  if (text.find_first_of(",\"\r\n") == std::string::npos) return text;
-  std::string out = "\"";
-  for (char c : text) {
-    if (c == '"') out += '"';
-    out += c;
-  }
-  return out + "\"";
-}
-
-std::string Number(double value) {
-  char text[32];
-  std::snprintf(text, sizeof text, "%.6g", value);
-  return text;
 }
 
 HttpResponse CsvResponse(std::string body, const LocalTime& zone) {
   HttpResponse response;
-  response.content_type = "text/csv; charset=utf-8; header=present";
+  response.content_type = kCsvContentType;
   response.body = std::move(body);
   // CSV has no place for metadata: the zone goes in a header; units are in the column names.
   response.headers.emplace_back("Ampledger-Time-Zone", zone.zone_name());
@@ -127,10 +81,10 @@ Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config
         "start,end,energy_wh,apparent_energy_vah,mean_w,min_w,max_w,coverage,quality\r\n";
     for (const SeriesPoint& point : points) {
       body += FormatLocalRfc3339(zone, point.period.start_ms) + "," +
-              FormatLocalRfc3339(zone, point.period.end_ms) + "," + Number(point.real_wh) + "," +
-              Number(point.apparent_vah) + "," + Number(point.MeanWatts()) + "," +
-              (point.has_data ? Number(point.min_watts) : "") + "," +
-              (point.has_data ? Number(point.max_watts) : "") + "," + Number(point.coverage) +
+              FormatLocalRfc3339(zone, point.period.end_ms) + "," + CsvNumber(point.real_wh) + "," +
+              CsvNumber(point.apparent_vah) + "," + CsvNumber(point.MeanWatts()) + "," +
+              (point.has_data ? CsvNumber(point.min_watts) : "") + "," +
+              (point.has_data ? CsvNumber(point.max_watts) : "") + "," + CsvNumber(point.coverage) +
               "," + (point.has_data ? QualityName(point.quality) : "") + "\r\n";
     }
     return CsvResponse(std::move(body), zone);
@@ -211,8 +165,8 @@ Result<HttpResponse> RawSeries(const SeriesQuery& query, const Config& config,
                        "quality\r\n";
     for (const ChannelReading& r : readings) {
       body += CsvField(names[r.channel]) + "," + FormatLocalRfc3339(zone, r.end_ms) + "," +
-              Number(r.duration_ms / 1000.0) + "," + Number(r.real_watts) + "," +
-              Number(r.apparent_va) + "," + Number(r.amps) + "," + Number(r.volts) + "," +
+              CsvNumber(r.duration_ms / 1000.0) + "," + CsvNumber(r.real_watts) + "," +
+              CsvNumber(r.apparent_va) + "," + CsvNumber(r.amps) + "," + CsvNumber(r.volts) + "," +
               (r.volts_measured ? "true" : "false") + "," + QualityName(r.quality) + "\r\n";
     }
     return CsvResponse(std::move(body), zone);
@@ -246,7 +200,7 @@ Result<HttpResponse> RawSeries(const SeriesQuery& query, const Config& config,
 Result<HttpResponse> AnswerSeries(const HttpRequest& request, const Config& config,
                                   const SeriesMap& series, const LocalTime& zone,
                                   const Database& db, const SeriesSubject& subject) {
-  Result<SeriesQuery> query = ParseQuery(request);
+  Result<SeriesQuery> query = ParseQuery(request, zone);
   if (!query.ok()) return query.status();
   if (query->step == SeriesStep::kRaw) {
     return RawSeries(*query, config, series, zone, db, subject);

@@ -1,9 +1,9 @@
 // api/series_route.h
 // GET /v1/circuits/{id}/series and GET /v1/units/{id}/series: energy per period of a step in
 // the site's local time, as JSON (default) or CSV (RFC 4180; Accept: text/csv or
-// ?format=csv). Query: from, to (RFC 3339 with offset), step (raw, 15m, hour, day, month;
-// default hour), format (json, csv). Runs on the HTTP worker threads; `db` is the request's
-// own reader connection.
+// ?format=csv). Query: from, to (RFC 3339 with offset, or local dates of the site), step
+// (raw, 15m, hour, day, month; default hour), format (json, csv). Runs on the HTTP worker
+// threads; `db` is the request's own reader connection.
 #pragma once
 
 #include <string>

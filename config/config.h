@@ -186,6 +186,9 @@ struct StorageConfig {
   std::int64_t wal_limit_bytes = 16 << 20;  // journal_size_limit after checkpoints (0..2^40)
   int batch_rows = 2000;              // the writer commits at this many rows (1..100000) ...
   int batch_millis = 250;             // ... or this long after the first queued row (1..10000)
+  // Below this much free space in the database's folder the daemon answers "not ready"
+  // (/v1/ready): SQLite needs room for the WAL and checkpoints (0..2^50).
+  std::int64_t min_free_bytes = 64 << 20;
 };
 
 // [ingest]: the UDP listener for sensor nodes.

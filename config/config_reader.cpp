@@ -376,7 +376,7 @@ class ConfigReader {
 
   void ReadStorage(TableReader r, StorageConfig* storage) {
     r.AllowOnly({"path", "raw_retention_days", "synchronous", "wal_limit_bytes", "batch_rows",
-                 "batch_millis"});
+                 "batch_millis", "min_free_bytes"});
     if (r.String("path", &storage->path) && storage->path.empty()) {
       r.Fail("path", "expected a file path, got \"\"");
     }
@@ -390,6 +390,7 @@ class ConfigReader {
     r.Integer("wal_limit_bytes", &storage->wal_limit_bytes, 0, std::int64_t{1} << 40);
     r.Integer("batch_rows", &storage->batch_rows, 1, 100000);
     r.Integer("batch_millis", &storage->batch_millis, 1, 10000);
+    r.Integer("min_free_bytes", &storage->min_free_bytes, 0, std::int64_t{1} << 50);
   }
 
   static void ReadListen(TableReader& r, std::string* listen) {

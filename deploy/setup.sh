@@ -18,8 +18,12 @@ packages=(
 if [ "$action" = test ]; then
   # Tools the test suite drives: clang and xxd for the fuzz target; systemd-analyze for the units;
   # dpkg-dev and file (CPack's shared-library dependencies) and fakeroot (dpkg as non-root)
-  # for the .deb test.
-  packages+=(clang xxd systemd dpkg-dev file fakeroot)
+  # for the .deb test; promtool (prometheus) for /metrics; npm for the OpenAPI validator
+  # (Node.js builds that ship their own npm conflict with Debian's npm package); openssl for
+  # the TLS test's certificate.
+  packages+=(clang xxd systemd dpkg-dev file fakeroot prometheus openssl)
+  command -v node > /dev/null || packages+=(nodejs)
+  command -v npm > /dev/null || packages+=(npm)
 fi
 
 missing=()

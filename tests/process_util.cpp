@@ -61,13 +61,13 @@ int WaitExit(pid_t pid, std::chrono::milliseconds timeout) {
   return -2;
 }
 
-bool WaitHealthy(int http_port, std::chrono::milliseconds timeout, bool or_degraded) {
+bool WaitHealthy(int http_port, std::chrono::milliseconds timeout) {
   httplib::Client api("127.0.0.1", http_port);
   api.set_connection_timeout(std::chrono::seconds(1));
   const auto until = std::chrono::steady_clock::now() + timeout;
   do {
     auto answer = api.Get("/v1/health");
-    if (answer && (answer->status == 200 || (or_degraded && answer->status == 503))) return true;
+    if (answer && answer->status == 200) return true;
     std::this_thread::sleep_for(std::chrono::milliseconds(20));
   } while (std::chrono::steady_clock::now() < until);
   return false;

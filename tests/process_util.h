@@ -24,8 +24,8 @@ pid_t SpawnProcess(const std::vector<std::string>& arguments, const std::string&
 // was still running (it is then killed with SIGKILL and reaped).
 int WaitExit(pid_t pid, std::chrono::milliseconds timeout);
 
-// True once GET /v1/health on 127.0.0.1:`http_port` answers 200 (or, with `or_degraded`,
-// 503: the daemon runs but says it cannot store), polling until `timeout`.
-bool WaitHealthy(int http_port, std::chrono::milliseconds timeout, bool or_degraded = false);
+// True once GET /v1/health on 127.0.0.1:`http_port` answers 200 (it does whenever the daemon
+// can answer; its checks are in the body), polling until `timeout`.
+bool WaitHealthy(int http_port, std::chrono::milliseconds timeout);
 
 }  // namespace ampledger::testing

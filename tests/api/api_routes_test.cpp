@@ -9,6 +9,8 @@
 
 #include <chrono>
 #include <future>
+#include <regex>
+#include <set>
 #include <nlohmann/json.hpp>
 
 #include "api/rfc3339.h"
@@ -110,7 +112,7 @@ double TruthWh(int channel, UnixMs from_ms, UnixMs to_ms) {
 }
 
 struct ApiFixture {
-  explicit ApiFixture(bool anonymous_status_routes = false)
+  ApiFixture()
       : config(SiteConfig(dir)), stats({"panel"}), server(config.http) {
     db = std::move(Database::Open(config.storage).value());
     series = RegisterSeries(*db, config).value();
@@ -145,7 +147,7 @@ struct ApiFixture {
     unit_a = Issue("unit:a");
     unit_b = Issue("unit:b");
     AddApiRoutes(server, ApiContext{&config, &series, config.storage.path, writer.get(), &stats,
-                                    receiver.get(), anonymous_status_routes});
+                                    receiver.get()});
     REQUIRE(server.Start().ok());
     client = std::make_unique<httplib::Client>("127.0.0.1", server.port());
     client->set_read_timeout(10);
@@ -211,10 +213,6 @@ struct ApiFixture {
   std::unique_ptr<httplib::Client> client;
 };
 
-struct AnonymousStatusFixture : ApiFixture {
-  AnonymousStatusFixture() : ApiFixture(/*anonymous_status_routes=*/true) {}
-};
-
 // A problem document (RFC 9457) whose status matches the response's.
 json ProblemOf(const httplib::Result& result) {
   REQUIRE(result);
@@ -255,6 +253,7 @@ TEST_SUITE("api") {
         {"/v1/circuits/hall/series" + q, 200, 200, 404, 404},
         {"/v1/units/a/series" + q, 200, 200, 200, 404},
         {"/v1/units/b/series" + q, 200, 200, 404, 200},
+        {"/v1/energy?" + kSpringDay, 200, 200, 200, 200},
     };
     for (const Row& row : rows) {
       struct Case {
@@ -289,10 +288,12 @@ TEST_SUITE("api") {
       CHECK(forged->get_header_value("WWW-Authenticate") ==
             "Bearer realm=\"ampledger\", error=\"invalid_token\"");
     }
-    // Health needs no token: a supervisor asks it.
-    httplib::Result health = Get("/v1/health", "");
-    REQUIRE(health);
-    CHECK(health->status == 200);
+    // Health and readiness need no token: a supervisor asks them.
+    for (const char* open : {"/v1/health", "/v1/ready"}) {
+      httplib::Result answer = Get(open, "");
+      REQUIRE(answer);
+      CHECK(answer->status == 200);
+    }
     // A unit token's 404 on a site-wide route reads like a path that does not exist.
     CHECK(ProblemOf(Get("/v1/site", unit_a))["detail"] == "no resource at /v1/site");
     CHECK(ProblemOf(Get("/v1/nowhere", unit_a))["detail"] == "no resource at /v1/nowhere");
@@ -320,19 +321,116 @@ TEST_SUITE("api") {
     CHECK(Ids(GetJson("/v1/live", viewer)["circuits"]).size() == 4);
   }
 
-  TEST_CASE_FIXTURE(AnonymousStatusFixture, "anonymous_status_routes opens only /v1/nodes and "
-                                            "/v1/live, and only to requests without a token") {
-    CHECK(Get("/v1/nodes", "")->status == 200);
-    CHECK(Ids(GetJson("/v1/live", "")["circuits"]).size() == 4);
-    CHECK(Ids(GetJson("/v1/live", unit_b)["circuits"]) == std::vector<std::string>{"b-heat"});
-    CHECK(Get("/v1/nodes", unit_b)->status == 404);
-    CHECK(Get("/v1/live", admin + "x")->status == 401);
-    for (const char* path : {"/v1/site", "/metrics", "/v1/circuits", "/v1/units",
-                             "/v1/circuits/hall/series?from=2026-03-08T00:00:00-06:00&"
-                             "to=2026-03-09T00:00:00-05:00"}) {
-      CAPTURE(path);
-      CHECK(Get(path, "")->status == 401);
+  TEST_CASE_FIXTURE(ApiFixture, "health lists its checks, with details only for whole-site "
+                                "tokens; ready gates on them") {
+    json open = GetJson("/v1/health", "");
+    CHECK(open["status"] == "pass");
+    REQUIRE(open["checks"].size() == 3);
+    for (const json& check : open["checks"]) {
+      CHECK(check["status"] == "pass");
+      CHECK_FALSE(check.contains("detail"));  // anonymous callers learn no paths or sizes
     }
+    CHECK(open["checks"][2]["name"] == "disk_free");
+    CHECK(ParseRfc3339(open["time"].get<std::string>()).has_value());
+    CHECK_FALSE(GetJson("/v1/health", unit_a)["checks"][2].contains("detail"));
+    const std::string detail = GetJson("/v1/health", viewer)["checks"][2]["detail"];
+    CHECK(detail.find(" bytes free in " + dir.path().string() + ", at least 67108864 needed") !=
+          std::string::npos);
+    CHECK(GetJson("/v1/ready", "") == json{{"ready", true}});
+
+    // A threshold no disk meets (read by the routes at each request).
+    config.storage.min_free_bytes = std::int64_t{1} << 50;
+    json failing = GetJson("/v1/health", "");
+    CHECK(failing["status"] == "fail");
+    CHECK(failing["checks"][2] == json{{"name", "disk_free"}, {"status", "fail"}});
+    httplib::Result ready = Get("/v1/ready", "");
+    REQUIRE(ready);
+    CHECK(ready->status == 503);
+    CHECK(ready->get_header_value("Retry-After") == "30");
+    CHECK(ProblemOf(ready)["detail"] ==
+          "not ready: failing checks: disk_free (see /v1/health)");
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "the OpenAPI document is served and lists every route the "
+                                "server has, and no other") {
+    const json document = GetJson("/v1/openapi.json", "");
+    CHECK(document == json::parse(testing::ReadFile(testing::SourceDir() / "api/openapi.json")));
+    CHECK(document["openapi"] == "3.1.0");
+    // "GET /v1/circuits/{}/series" from the server's pattern and from the document's path.
+    std::set<std::string> served, documented;
+    for (const auto& [method, pattern] : server.Routes()) {
+      served.insert(method + " " +
+                    std::regex_replace(pattern, std::regex(R"(\(\[\^/\]\+\))"), "{}"));
+    }
+    for (const auto& [path, item] : document["paths"].items()) {
+      for (const auto& [method, operation] : item.items()) {
+        std::string upper = method;
+        for (char& c : upper) c = static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+        documented.insert(upper + " " +
+                          std::regex_replace(path, std::regex(R"(\{[^}]+\})"), "{}"));
+      }
+    }
+    CHECK(served.count("GET /v1/circuits/{}/series") == 1);  // patterns became templates
+    CHECK(served == documented);
+    // Each documented open route answers without a token; each guarded one asks for it.
+    for (const auto& [path, item] : document["paths"].items()) {
+      if (path.find('{') != std::string::npos) continue;
+      CAPTURE(path);
+      const bool open = item["get"].contains("security") && item["get"]["security"].size() > 0 &&
+                        item["get"]["security"][0].empty();
+      CHECK((Get(path, "")->status == 401) == !open);
+    }
+  }
+
+  // Runs `command` in a shell with its output to a file in `dir`; the exit status and output.
+  static std::pair<int, std::string> Shell(const testing::TempDir& dir,
+                                           const std::string& command) {
+    const std::string output = dir.File("shell.txt");
+    const int status = std::system((command + " > '" + output + "' 2>&1").c_str());
+    return {status, testing::ReadFile(output)};
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "/metrics passes promtool's checks in both formats") {
+    // promtool is the Prometheus project's checker (Debian package prometheus).
+    httplib::Result plain = Get("/metrics", viewer);
+    REQUIRE(plain);
+    REQUIRE(plain->status == 200);
+    CHECK(plain->get_header_value("Content-Type") == "text/plain; version=0.0.4; charset=utf-8");
+    CHECK(plain->body.find("ampledger_circuit_power_watts{circuit=\"hall\"") !=
+          std::string::npos);
+    // `check metrics` parses the Prometheus text format and lints names, types and help; it
+    // prints nothing when all is well.
+    testing::WriteFile(dir.File("metrics.txt"), plain->body);
+    auto [status, report] =
+        Shell(dir, "promtool check metrics < '" + dir.File("metrics.txt") + "'");
+    CHECK_MESSAGE(status == 0, report);
+    CHECK_MESSAGE(report.empty(), report);
+
+    // OpenMetrics, as a scraper asks for it. promtool reads it with Prometheus's OpenMetrics
+    // parser when it imports samples into blocks; that import needs a timestamp on each
+    // sample, so one is added to every sample line (OpenMetrics allows it).
+    httplib::Result open =
+        Get("/metrics", viewer, "application/openmetrics-text; version=1.0.0");
+    REQUIRE(open);
+    REQUIRE(open->status == 200);
+    CHECK(open->get_header_value("Content-Type") ==
+          "application/openmetrics-text; version=1.0.0; charset=utf-8");
+    std::string stamped;
+    int samples = 0;
+    for (size_t start = 0; start < open->body.size();) {
+      const size_t end = open->body.find('\n', start);
+      const std::string line = open->body.substr(start, end - start);
+      stamped += line + (line.rfind("#", 0) == 0 ? "" : " 1767225600") + "\n";
+      samples += line.rfind("#", 0) == 0 ? 0 : 1;
+      start = end + 1;
+    }
+    testing::WriteFile(dir.File("openmetrics.txt"), stamped);
+    auto [imported, log] = Shell(dir, "promtool tsdb create-blocks-from openmetrics '" +
+                                          dir.File("openmetrics.txt") + "' '" +
+                                          dir.File("blocks") + "'");
+    CHECK_MESSAGE(imported == 0, log);
+    // Its summary table ends with the block's sample count.
+    CHECK_MESSAGE(log.find("  " + std::to_string(samples) + "  ") != std::string::npos, log);
   }
 
   TEST_CASE_FIXTURE(ApiFixture, "a revoked token stops working at its next request") {
@@ -354,7 +452,9 @@ TEST_SUITE("api") {
     const std::string a = "/v1/circuits/a-heat/series?";
     const std::vector<Bad> table = {
         {a + "to=2026-03-09T00:00:00-05:00", 400, "\"from\": required"},
-        {a + "from=2026-03-08&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-03-08T00:00&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-3-08&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
+        {a + "from=2026-02-29&to=2026-03-09", 400, "\"from\": \"2026-02-29\" is neither"},
         {a + "from=2026-03-08T00:00:00&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
         {a + "from=2026-13-08T00:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
         {a + "from=2026-02-30T00:00:00Z&to=2026-03-09T00:00:00-05:00", 400, "\"from\""},
@@ -388,6 +488,15 @@ TEST_SUITE("api") {
         {a + "from=2026-03-08T00:00:00-06:00%27%3B--&to=2026-03-09T00:00:00-05:00", 400,
          "\"from\""},
         {"/v1/circuits/a-heat", 404, "no resource"},
+        // Energy totals: bounds on quarter hours, in order, at most 400 days; known values.
+        {"/v1/energy?from=2026-03-08T00:05:00-06:00&to=2026-03-09", 400,
+         "\"from\": energy is kept per quarter hour"},
+        {"/v1/energy?from=2026-03-09&to=2026-03-08", 400, "\"to\": must be later"},
+        {"/v1/energy?from=2025-01-01&to=2026-03-08", 400, "longer than 400 days"},
+        {"/v1/energy?" + kSpringDay + "&by=node", 400, "\"by\": \"node\" is not circuit or unit"},
+        {"/v1/energy?" + kSpringDay + "&step=day", 400, "\"step\": not known here"},
+        {"/v1/energy?to=2026-03-09", 400, "\"from\": required"},
+        {"/v1/energy?" + kSpringDay + "&from=2026-03-01", 400, "given more than once"},
     };
     for (const Bad& bad : table) {
       CAPTURE(bad.path);
@@ -472,6 +581,97 @@ TEST_SUITE("api") {
     REQUIRE(month["points"].size() == 1);
     // 3 local days (71 hours) of a 743-hour month.
     CHECK(month["points"][0]["coverage"] == doctest::Approx(71.0 / 743.0).epsilon(1e-9));
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "energy by circuit and by unit equals the storage rollups; "
+                                "local dates are local midnights") {
+    // Local dates: the spring-forward day in America/Chicago is 23 hours (IANA tz).
+    const UnixMs from = At("2026-03-08T00:00:00-06:00");
+    const UnixMs to = At("2026-03-09T00:00:00-05:00");
+    json by_circuit = GetJson("/v1/energy?from=2026-03-08&to=2026-03-09", viewer);
+    CHECK(by_circuit["by"] == "circuit");
+    CHECK(by_circuit["from"] == "2026-03-08T00:00:00-06:00");
+    CHECK(by_circuit["to"] == "2026-03-09T00:00:00-05:00");
+    CHECK(by_circuit["time_zone"] == "America/Chicago");
+    CHECK(by_circuit["units"]["consumption_kwh"] == "kWh");
+    CHECK(by_circuit["units"]["apparent_energy_kvah"] == "kVAh");
+    REQUIRE(by_circuit["rows"].size() == 4);
+    double total_wh = 0;
+    for (int circuit = 0; circuit < 4; ++circuit) {
+      const json& row = by_circuit["rows"][circuit];
+      CAPTURE(row.dump());
+      CHECK(row["circuit"] == config.circuits[circuit].id);
+      const double rollup_wh = RollupWh({circuit}, from, to);
+      CHECK(row["consumption_kwh"].get<double>() * 1000 ==
+            doctest::Approx(rollup_wh).epsilon(1e-12));
+      CHECK(row["export_kwh"] == 0.0);
+      CHECK(row["coverage"] == doctest::Approx(1));
+      CHECK(row["quality"] == "measured");
+      total_wh += rollup_wh;
+    }
+    // Circuit 0 is channel 0 (a-heat): the readings themselves.
+    CHECK(by_circuit["rows"][0]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(TruthWh(0, from, to)).epsilon(1e-9));
+    CHECK(by_circuit["rows"][3]["unit"].is_null());
+    CHECK(by_circuit["total"]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(total_wh).epsilon(1e-12));
+    // The same range in RFC 3339 is the same answer; the series' total agrees.
+    CHECK(GetJson("/v1/energy?" + kSpringDay, viewer) == by_circuit);
+    CHECK(GetJson("/v1/circuits/a-heat/series?from=2026-03-08&to=2026-03-09&step=day",
+                  viewer)["total_energy_kwh"] == by_circuit["rows"][0]["consumption_kwh"]);
+
+    json by_unit = GetJson("/v1/energy?" + kFallDay + "&by=unit", admin);
+    const UnixMs fall_from = At("2026-11-01T00:00:00-05:00");
+    const UnixMs fall_to = At("2026-11-02T00:00:00-06:00");
+    REQUIRE(by_unit["rows"].size() == 3);
+    CHECK(by_unit["rows"][0]["unit"] == "a");
+    CHECK(by_unit["rows"][0]["circuits"] == json::array({"a-heat", "a-kitchen"}));
+    CHECK(by_unit["rows"][0]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(RollupWh({0, 1}, fall_from, fall_to)).epsilon(1e-12));
+    CHECK(by_unit["rows"][1]["unit"] == "b");
+    CHECK(by_unit["rows"][2]["unit"].is_null());  // the hall lights belong to no unit
+    CHECK(by_unit["rows"][2]["circuits"] == json::array({"hall"}));
+    CHECK(by_unit["total"]["consumption_kwh"].get<double>() * 1000 ==
+          doctest::Approx(RollupWh({0, 1, 2, 3}, fall_from, fall_to)).epsilon(1e-12));
+
+    // A unit token sees its own unit and circuits only, and no row of circuits of no unit.
+    json own = GetJson("/v1/energy?" + kFallDay + "&by=unit", unit_b);
+    REQUIRE(own["rows"].size() == 1);
+    CHECK(own["rows"][0]["unit"] == "b");
+    json circuits_of_a = GetJson("/v1/energy?" + kFallDay, unit_a);
+    REQUIRE(circuits_of_a["rows"].size() == 2);
+    CHECK(circuits_of_a["rows"][1]["circuit"] == "a-kitchen");
+
+    // A range with no data has zero energy, coverage 0 and no quality.
+    json empty = GetJson("/v1/energy?from=2026-06-01&to=2026-06-02&by=unit", viewer);
+    CHECK(empty["rows"][0]["consumption_kwh"] == 0.0);
+    CHECK(empty["rows"][0]["coverage"] == 0.0);
+    CHECK(empty["rows"][0]["quality"].is_null());
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "energy as CSV (RFC 4180)") {
+    httplib::Result csv = Get("/v1/energy?" + kSpringDay + "&by=unit&format=csv", viewer);
+    REQUIRE(csv);
+    CHECK(csv->status == 200);
+    CHECK(csv->get_header_value("Content-Type").rfind("text/csv", 0) == 0);
+    CHECK(csv->get_header_value("Ampledger-Time-Zone") == "America/Chicago");
+    const std::string& body = csv->body;
+    // RFC 4180 section 2: a header line, CRLF after every record, quoted fields with commas.
+    const std::string header = "from,to,unit,name,circuits,consumption_kwh,export_kwh,"
+                               "apparent_energy_kvah,coverage,quality\r\n";
+    REQUIRE(body.rfind(header, 0) == 0);
+    CHECK(body.find("\r\n2026-03-08T00:00:00-06:00,2026-03-09T00:00:00-05:00,a,a,"
+                    "a-heat a-kitchen,") != std::string::npos);
+    CHECK(body.find(",,\"shared circuits, and circuits of no unit\",hall,") != std::string::npos);
+    int records = 0;
+    for (size_t at = body.find("\r\n"); at != std::string::npos; at = body.find("\r\n", at + 2)) {
+      ++records;
+    }
+    CHECK(records == 4);  // the header and three rows
+    CHECK(body.back() == '\n');
+    httplib::Result accepted = Get("/v1/energy?" + kSpringDay + "&by=unit", viewer, "text/csv");
+    REQUIRE(accepted);
+    CHECK(accepted->body == body);
   }
 
   TEST_CASE_FIXTURE(ApiFixture, "series as CSV (RFC 4180) and raw readings") {

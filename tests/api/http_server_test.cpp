@@ -7,9 +7,12 @@
 #include <sys/socket.h>
 #include <unistd.h>
 
+#include <cstdlib>
 #include <nlohmann/json.hpp>
 #include <stdexcept>
 #include <string>
+
+#include "test_util.h"
 
 namespace ampledger {
 namespace {
@@ -70,7 +73,94 @@ nlohmann::json ProblemOf(const httplib::Result& result) {
   return problem;
 }
 
+// A self-signed certificate for 127.0.0.1 and its key, made now by the openssl command (P-256,
+// valid two days): no certificate is kept in the repository.
+struct SelfSigned {
+  SelfSigned() {
+    const std::string command =
+        "openssl req -x509 -newkey ec -pkeyopt ec_paramgen_curve:prime256v1 -nodes -days 2 "
+        "-subj /CN=127.0.0.1 -addext subjectAltName=IP:127.0.0.1 -keyout '" + key +
+        "' -out '" + certificate + "' > '" + dir.File("openssl.log") + "' 2>&1";
+    REQUIRE_MESSAGE(std::system(command.c_str()) == 0, testing::ReadFile(dir.File("openssl.log")));
+  }
+  testing::TempDir dir;
+  std::string certificate = dir.File("cert.pem");
+  std::string key = dir.File("key.pem");
+};
+
+HttpConfig TlsConfig(const std::string& certificate, const std::string& key) {
+  HttpConfig config;
+  config.listen = "127.0.0.1:0";
+  config.threads = 2;
+  config.tls_certificate = certificate;
+  config.tls_private_key = key;
+  return config;
+}
+
 TEST_SUITE("api") {
+  TEST_CASE("HttpServer serves HTTPS with the configured certificate and key") {
+    SelfSigned files;
+    HttpServer server(TlsConfig(files.certificate, files.key));
+    server.Route("GET", "/v1/things/([a-z]+)", [](const HttpRequest& request) {
+      return Result<HttpResponse>(
+          HttpResponse::Json(nlohmann::json{{"thing", request.path_params[0]}}.dump()));
+    });
+    Status started = server.Start();
+    REQUIRE_MESSAGE(started.ok(), started.ToString());
+
+    // A client that trusts only this certificate, and checks it names 127.0.0.1.
+    httplib::SSLClient client("127.0.0.1", server.port());
+    client.set_ca_cert_path(files.certificate.c_str());
+    client.enable_server_certificate_verification(true);
+    client.set_connection_timeout(5);
+    httplib::Result result = client.Get("/v1/things/lamp");
+    REQUIRE_MESSAGE(result, httplib::to_string(result.error()));
+    CHECK(result->status == 200);
+    CHECK(nlohmann::json::parse(result->body)["thing"] == "lamp");
+    CHECK(ProblemOf(client.Get("/v1/nowhere"))["status"] == 404);
+
+    // A client that does not trust it gets no answer; plain HTTP gets no HTTP answer.
+    httplib::SSLClient stranger("127.0.0.1", server.port());
+    stranger.set_ca_cert_path(files.dir.File("no-such-ca.pem").c_str());
+    stranger.enable_server_certificate_verification(true);
+    stranger.set_connection_timeout(5);
+    httplib::Result refused = stranger.Get("/v1/things/lamp");
+    CHECK_FALSE(refused);
+    httplib::Client plain("127.0.0.1", server.port());
+    plain.set_read_timeout(5);
+    httplib::Result garbled = plain.Get("/v1/things/lamp");
+    CHECK((!garbled || garbled->status != 200));
+    // And the server still answers.
+    CHECK(client.Get("/v1/things/again")->status == 200);
+  }
+
+  TEST_CASE("HttpServer names the TLS file it cannot use") {
+    SelfSigned files;
+    const std::string missing = files.dir.File("missing.pem");
+    HttpServer no_certificate(TlsConfig(missing, files.key));
+    CHECK(no_certificate.Start().ToString() ==
+          "invalid argument: http.tls_certificate: cannot read " + missing +
+              ": No such file or directory");
+    HttpServer no_key(TlsConfig(files.certificate, missing));
+    CHECK(no_key.Start().ToString() == "invalid argument: http.tls_private_key: cannot read " +
+                                           missing + ": No such file or directory");
+    // The certificate given as the key, and a key from another pair: neither loads.
+    const std::string expected_tail =
+        " are not a PEM certificate chain and the private key that matches it";
+    HttpServer swapped(TlsConfig(files.key, files.certificate));
+    CHECK(swapped.Start().ToString() == "invalid argument: http.tls_certificate, "
+                                        "http.tls_private_key: " +
+                                            files.key + " and " + files.certificate +
+                                            expected_tail);
+    SelfSigned other;
+    HttpServer mismatched(TlsConfig(files.certificate, other.key));
+    CHECK(mismatched.Start().ToString() == "invalid argument: http.tls_certificate, "
+                                           "http.tls_private_key: " +
+                                               files.certificate + " and " + other.key +
+                                               expected_tail);
+  }
+
+
   TEST_CASE_FIXTURE(ServerFixture, "HttpServer routes with path parameters") {
     auto result = client->Get("/v1/things/lamp");
     REQUIRE(result);

@@ -6,7 +6,7 @@ namespace ampledger {
 namespace {
 
 TEST_SUITE("api") {
-  TEST_CASE("FormatOpenMetrics follows the OpenMetrics 1.0 text rules") {
+  TEST_CASE("FormatMetrics in OpenMetrics follows the OpenMetrics 1.0 text rules") {
     IngestStats stats({"garage"});
     stats.received = 12;
     stats.refused[static_cast<int>(RefusalReason::kBadTag)] = 3;
@@ -14,7 +14,7 @@ TEST_SUITE("api") {
     snapshot.ingest = &stats;
     snapshot.database_bytes = 4096;
     snapshot.live = {{"dryer \"new\"", "consumption", 4800}, {"solar", "export", 1234.5}};
-    const std::string text = FormatOpenMetrics(snapshot);
+    const std::string text = FormatMetrics(snapshot, MetricsFormat::kOpenMetrics);
 
     // tests/reference/data/http/NOTES.md (OpenMetrics 1.0): ends with "# EOF"; counters are
     // sampled as <family>_total; TYPE before UNIT before HELP; label values escape '"'.
@@ -31,6 +31,17 @@ TEST_SUITE("api") {
                     "direction=\"consumption\"} 4800.0\n") != std::string::npos);
     CHECK(text.find("{circuit=\"solar\",direction=\"export\"} 1234.5\n") != std::string::npos);
     CHECK(text.find('\r') == std::string::npos);
+
+    // The Prometheus text format 0.0.4 (prometheus.io "Exposition formats", from memory of
+    // that page): a counter's TYPE and HELP name the sample itself, no UNIT, no "# EOF".
+    const std::string plain = FormatMetrics(snapshot, MetricsFormat::kPrometheusText);
+    CHECK(plain.find("# TYPE ampledger_datagrams_received_total counter\n"
+                     "# HELP ampledger_datagrams_received_total UDP datagrams read from the "
+                     "socket.\nampledger_datagrams_received_total 12\n") != std::string::npos);
+    CHECK(plain.find("# TYPE ampledger_database_bytes gauge\n# HELP ampledger_database_bytes ")
+          != std::string::npos);
+    CHECK(plain.find("# UNIT") == std::string::npos);
+    CHECK(plain.find("# EOF") == std::string::npos);
   }
 }
 

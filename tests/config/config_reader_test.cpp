@@ -97,6 +97,9 @@ TEST_CASE("values out of range are refused, not clamped") {
   CHECK(ErrorOf(kMinimalConfig + "[[node]]\nid = \"n2\"\nauth = \"plain\"\n"
                                  "[[node.channel]]\nid = \"ct1\"\ngain = 3\n") ==
         "site.toml:22: node[1].channel[0].gain: expected a number from 0.5 to 2, got 3");
+  CHECK(ErrorOf(kMinimalConfig + "[storage]\nmin_free_bytes = -1\n") ==
+        "site.toml:18: storage.min_free_bytes: expected an integer from 0 to 1125899906842624, "
+        "got -1");
 }
 
 TEST_CASE("site values: time zone from the IANA database, currency code, tariff name") {

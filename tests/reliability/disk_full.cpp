@@ -30,13 +30,21 @@ namespace {
 
 constexpr int kSkipped = 77;
 
-// /v1/health's "writer": "ok" or the writer's error; "" if it did not answer.
-std::string WriterHealth(int http_port) {
+// /v1/health's "writer" check: "ok", or why it fails (details need a whole-site token); ""
+// if the daemon did not answer.
+std::string WriterHealth(int http_port, const std::string& token) {
   httplib::Client api("127.0.0.1", http_port);
+  api.set_bearer_token_auth(token);
   auto answer = api.Get("/v1/health");
   if (!answer) return "";
   nlohmann::json body = nlohmann::json::parse(answer->body, nullptr, false);
-  return body.is_object() ? body.value("writer", std::string()) : std::string();
+  if (!body.is_object() || !body["checks"].is_array()) return "";
+  for (const nlohmann::json& check : body["checks"]) {
+    if (check.value("name", "") != "writer") continue;
+    if (check.value("status", "") == "pass") return "ok";
+    return check.value("detail", std::string("fail"));
+  }
+  return "";
 }
 
 int Main(int argc, char** argv) {
@@ -62,9 +70,10 @@ int Main(int argc, char** argv) {
     ~Unmount() { ::umount2(path.c_str(), MNT_DETACH); }
   } unmount{data};
 
-  // A tmpfs this small is below /v1/health's free-space threshold: health answers 503
-  // ("degraded") from the start; its "writer" field is what changes.
-  if (!site.Start(/*or_degraded=*/true)) {
+  // A tmpfs this small is below the free-space threshold: /v1/health's disk check fails from
+  // the start; its writer check is what changes.
+  const std::string token = site.CreateToken("viewer");
+  if (token.empty() || !site.Start()) {
     std::fprintf(stderr, "disk_full: the daemon did not start:\n%s\n",
                  ReadText(site.log_path()).c_str());
     return 1;
@@ -80,7 +89,7 @@ int Main(int argc, char** argv) {
   std::string full_health;
   const auto started = std::chrono::steady_clock::now();
   while (std::chrono::steady_clock::now() - started < std::chrono::seconds(120)) {
-    full_health = WriterHealth(site.http_port());
+    full_health = WriterHealth(site.http_port(), token);
     if (!full_health.empty() && full_health != "ok") break;
     std::this_thread::sleep_for(std::chrono::milliseconds(100));
   }
@@ -97,7 +106,7 @@ int Main(int argc, char** argv) {
   std::string resumed_health;
   const auto enlarged_at = std::chrono::steady_clock::now();
   while (enlarged && std::chrono::steady_clock::now() - enlarged_at < std::chrono::seconds(60)) {
-    resumed_health = WriterHealth(site.http_port());
+    resumed_health = WriterHealth(site.http_port(), token);
     if (resumed_health == "ok") break;
     std::this_thread::sleep_for(std::chrono::milliseconds(100));
   }

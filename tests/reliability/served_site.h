@@ -80,10 +80,10 @@ class ServedSite {
   ServedSite(const ServedSite&) = delete;
   ServedSite& operator=(const ServedSite&) = delete;
 
-  // Starts `ampledger serve`; true once /v1/health answers 200 (or 503, `or_degraded`).
-  bool Start(bool or_degraded = false) {
+  // Starts `ampledger serve`; true once /v1/health answers.
+  bool Start() {
     pid_ = testing::SpawnProcess({binary_, "serve", "--config", config_path()}, log_path());
-    return pid_ > 0 && testing::WaitHealthy(http_port_, std::chrono::seconds(20), or_degraded);
+    return pid_ > 0 && testing::WaitHealthy(http_port_, std::chrono::seconds(20));
   }
   void Kill() {
     ::kill(pid_, SIGKILL);
