@@ -189,16 +189,22 @@ Status ReadingWriter::Transaction(const std::function<Status()>& body, std::stri
 
 Status ReadingWriter::Commit(std::vector<Queued>& items, bool write_open) {
   rollups_->set_raw_kept_from_ms(RetentionCutoff());
-  return Transaction(
+  stored_.clear();
+  Status status = Transaction(
       [&] {
         for (const Queued& item : items) {
           if (Status s = WriteOne(item.batch); !s.ok()) return s;
         }
         Status s = rollups_->Finish(write_open);
         assert(rollups_->CheckInvariants());
+        if (s.ok() && options_.hook) {
+          s = options_.hook->InTransaction(*db_, stored_, options_.clock());
+        }
         return s;
       },
       "commit readings");
+  if (options_.hook) options_.hook->AfterTransaction(status);
+  return status;
 }
 
 Status ReadingWriter::WriteOne(const ReadingBatch& batch) {
@@ -206,7 +212,9 @@ Status ReadingWriter::WriteOne(const ReadingBatch& batch) {
   for (const ChannelReading& reading : batch.readings) {
     BindReading(insert_reading_, reading, series_.channel_ids[reading.channel]);
     if (Status s = insert_reading_.Run("insert reading"); !s.ok()) return s;
-    if (sqlite3_changes(handle) > 0) rollups_->Add(reading);  // 0: stored already
+    if (sqlite3_changes(handle) == 0) continue;  // stored already
+    rollups_->Add(reading);
+    if (options_.hook) stored_.push_back(reading);
   }
   for (const NodeState& state : batch.node_states) {
     upsert_node_state_.Bind(1, state.node);
