@@ -7,6 +7,7 @@
 #include <nlohmann/json.hpp>
 
 #include "api/access.h"
+#include "api/alert_routes.h"
 #include "api/api_limits.h"
 #include "api/metrics.h"
 #include "api/problem.h"
@@ -256,9 +257,6 @@ enum class Reach {
 // Whether a request without a token may still be answered (ApiContext::anonymous_status_routes).
 enum class Anonymous { kRefused, kAllowedWhenConfigured };
 
-using ScopedHandler =
-    std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;
-
 HttpResponse Unauthorized(const std::string& detail, bool token_presented) {
   HttpResponse response;
   response.status = 401;
@@ -301,6 +299,10 @@ HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handle
 }
 
 }  // namespace
+
+HttpHandler RequireToken(const ApiContext& context, ScopedHandler handler) {
+  return Guarded(context, Reach::kScoped, std::move(handler));
+}
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context) {
   auto site = std::make_shared<SiteZone>();
@@ -356,6 +358,7 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                        [context](const HttpRequest&, const Database& db, const Scope&) {
                          return Metrics(context, db);
                        }));
+  if (context.alerts != nullptr) AddAlertRoutes(server, context);
 }
 
 }  // namespace ampledger
