@@ -104,7 +104,7 @@ UnixMs WebhookSender::RetryDelay(int failures) const {
 }
 
 UnixMs WebhookSender::DeliverDue(const Database& db, const WebhookConfig& hook, UnixMs now) {
-  Result<std::vector<OutboxEntry>> due = ReadDueDeliveries(db, hook.id, now, kDeliveriesPerRound);
+  Result<std::vector<OutboxEntry>> due = ReadWaitingDeliveries(db, hook.id, kDeliveriesPerRound);
   if (!due.ok()) {
     options_.warn("webhook " + hook.id + ": reading the outbox: " + due.status().ToString());
     return now + options_.first_retry_ms;
@@ -114,6 +114,7 @@ UnixMs WebhookSender::DeliverDue(const Database& db, const WebhookConfig& hook, 
       zone.ok() ? std::optional<LocalTime>(*zone) : std::nullopt;
   for (const OutboxEntry& entry : *due) {
     if (stopping_) return 0;
+    if (entry.next_ms > now) break;  // the oldest is not due yet; the newer ones wait for it
     Result<StoredEvent> event = ReadEvent(db, entry.event);
     if (!event.ok()) {
       options_.warn("webhook " + hook.id + ": event " + std::to_string(entry.event) + ": " +

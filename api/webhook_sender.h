@@ -52,8 +52,8 @@ class WebhookSender {
 
  private:
   void Run();
-  // Tries every due delivery of `hook`, oldest first, stopping at its first failure (order is
-  // kept). Returns the time of its next due delivery, or 0 when none waits.
+  // Tries `hook`'s waiting deliveries oldest first while they are due, stopping at the first
+  // failure (order is kept). Returns when it is next due, or 0 when nothing waits.
   UnixMs DeliverDue(const Database& db, const WebhookConfig& hook, UnixMs now);
 
   const Config& config_;

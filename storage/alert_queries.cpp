@@ -87,15 +87,14 @@ Result<bool> AlertExists(const Database& db, const std::string& rule,
   return select->Step("look up alert");
 }
 
-Result<std::vector<OutboxEntry>> ReadDueDeliveries(const Database& db, const std::string& hook,
-                                                   UnixMs now, int limit) {
+Result<std::vector<OutboxEntry>> ReadWaitingDeliveries(const Database& db,
+                                                       const std::string& hook, int limit) {
   Result<Statement> select = db.Prepare(
-      "SELECT event, attempts, next_ms FROM webhook_outbox WHERE hook = ?1 AND next_ms <= ?2 "
-      "ORDER BY event LIMIT ?3");
+      "SELECT event, attempts, next_ms FROM webhook_outbox WHERE hook = ?1 ORDER BY event "
+      "LIMIT ?2");
   if (!select.ok()) return select.status();
   select->Bind(1, std::string_view(hook));
-  select->Bind(2, static_cast<std::int64_t>(now));
-  select->Bind(3, static_cast<std::int64_t>(limit));
+  select->Bind(2, static_cast<std::int64_t>(limit));
   std::vector<OutboxEntry> due;
   for (;;) {
     Result<bool> row = select->Step("read webhook outbox");
@@ -106,13 +105,13 @@ Result<std::vector<OutboxEntry>> ReadDueDeliveries(const Database& db, const std
 }
 
 Result<UnixMs> NextDeliveryTime(const Database& db, const std::string& hook) {
-  Result<Statement> select =
-      db.Prepare("SELECT coalesce(min(next_ms), 0) FROM webhook_outbox WHERE hook = ?1");
+  Result<Statement> select = db.Prepare(
+      "SELECT next_ms FROM webhook_outbox WHERE hook = ?1 ORDER BY event LIMIT 1");
   if (!select.ok()) return select.status();
   select->Bind(1, std::string_view(hook));
   Result<bool> row = select->Step("read webhook outbox");
   if (!row.ok()) return row.status();
-  return static_cast<UnixMs>(select->Int(0));
+  return row.value() ? static_cast<UnixMs>(select->Int(0)) : UnixMs{0};
 }
 
 }  // namespace ampledger

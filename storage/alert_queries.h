@@ -60,11 +60,12 @@ struct OutboxEntry {
   UnixMs next_ms = 0;
 };
 
-// Deliveries for `hook` due at or before `now`, oldest event first, at most `limit`.
-Result<std::vector<OutboxEntry>> ReadDueDeliveries(const Database& db, const std::string& hook,
-                                                   UnixMs now, int limit);
+// Deliveries waiting for `hook`, oldest event first, at most `limit`. Events go out in order,
+// so only the oldest one's next_ms says when the hook is due.
+Result<std::vector<OutboxEntry>> ReadWaitingDeliveries(const Database& db,
+                                                       const std::string& hook, int limit);
 
-// The earliest next_ms of `hook`'s waiting deliveries; 0 when none wait.
+// When `hook` is next due: the oldest waiting delivery's next_ms; 0 when none waits.
 Result<UnixMs> NextDeliveryTime(const Database& db, const std::string& hook);
 
 }  // namespace ampledger
