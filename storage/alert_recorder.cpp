@@ -89,6 +89,7 @@ Status AlertRecorder::Load(const Database& db) {
     stored.silenced_until_ms = OrNone(*select, 9);
   }
   (void)evaluator_.TakeChanged();
+  evaluator_.Resume(options_.clock());  // written with the first transaction
   Result<Statement> newest = db.Prepare("SELECT coalesce(max(id), 0) FROM alert_event");
   if (!newest.ok()) return newest.status();
   Result<bool> row = newest->Step("read newest alert event");

@@ -89,6 +89,18 @@ void AlertEvaluator::Feed(const std::string& subject, const PowerSample& sample,
   }
 }
 
+void AlertEvaluator::Resume(UnixMs now) {
+  for (size_t slot = 0; slot < slots_.size(); ++slot) {
+    AlertState& state = slots_[slot].state;
+    if (rules_[slots_[slot].rule].kind() != AlertKind::kNodeSilent) continue;
+    if (state.phase == AlertPhase::kRaised || state.last_ms == 0 || state.last_ms >= now) {
+      continue;
+    }
+    state.last_ms = now;
+    changed_[slot] = true;
+  }
+}
+
 void AlertEvaluator::OnReadings(const std::vector<ChannelReading>& readings, UnixMs now,
                                 std::vector<AlertOutcome>* out) {
   std::vector<const ChannelReading*> ordered;

@@ -53,6 +53,11 @@ class AlertEvaluator {
   // Puts back a stored state. False when the config no longer has this (rule, subject).
   bool Restore(const std::string& rule, const std::string& subject, const AlertState& state);
 
+  // The daemon starts listening at `now` after being stopped: a node_silent rule counts a
+  // node's silence from `now`, not from before the stop, unless the node was silent already
+  // (a restart for an upgrade is not a silent node). Call after Restore().
+  void Resume(UnixMs now);
+
   // Readings just stored (each once), committed at `now`. Appends what happened to `out`,
   // in time order per subject.
   void OnReadings(const std::vector<ChannelReading>& readings, UnixMs now,

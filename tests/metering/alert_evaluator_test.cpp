@@ -132,6 +132,27 @@ TEST_SUITE("metering") {
     CHECK(evaluator.TakeChanged() == std::vector<int>{2});
   }
 
+  TEST_CASE("alert evaluator: after a restart a node's silence counts from the restart") {
+    Config config = Load();
+    AlertEvaluator evaluator = AlertEvaluator::Create(config).value();
+    std::vector<AlertOutcome> out;
+    evaluator.OnReadings({Reading(2, kT0, 10)}, kT0, &out);
+    (void)evaluator.TakeChanged();
+    // Stopped for an hour: without Resume the first tick would call the node silent.
+    evaluator.Resume(kT0 + 3'600'000);
+    CHECK(evaluator.TakeChanged() == std::vector<int>{2});
+    evaluator.OnTick(kT0 + 3'600'000 + 20'000, &out);
+    CHECK(out.empty());
+    evaluator.OnTick(kT0 + 3'600'000 + 20'001, &out);
+    REQUIRE(out.size() == 1);
+    CHECK(out[0].transition.Value("last_heard") == kT0 + 3'600'000);
+    // A node already silent stays silent, with its real last-heard time.
+    AlertEvaluator again = AlertEvaluator::Create(config).value();
+    REQUIRE(again.Restore("quiet", "node:n1", evaluator.slots()[2].state));
+    again.Resume(kT0 + 7'200'000);
+    CHECK(again.slots()[2].state.last_ms == kT0 + 3'600'000);
+  }
+
   TEST_CASE("alert evaluator: a restored state carries on where it was") {
     Config config = Load();
     config.alerts[0].hold_seconds = 30;
