@@ -13,7 +13,6 @@
 #include "api/api_limits.h"
 #include "api/event_json.h"
 #include "api/problem.h"
-#include "api/rfc3339.h"
 
 namespace ampledger {
 

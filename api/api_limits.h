@@ -18,10 +18,6 @@ inline constexpr UnixMs kMaxRawRangeMs = 2 * 86400 * kMsPerSecond;
 // Live values come from readings ending within this long before now; older ones are stale.
 inline constexpr UnixMs kLiveHorizonMs = 3600 * kMsPerSecond;
 
-}  // namespace ampledger
-
-namespace ampledger {
-
 // Events in one /v1/events response: a script catching up after a day away gets them in a few
 // requests, and one response stays well under a megabyte of JSON.
 inline constexpr int kMaxEventsPerResponse = 1000;
@@ -33,7 +29,7 @@ inline constexpr int kMaxEventWaitSeconds = 60;
 
 // Long-polls waiting at once, as a share of the HTTP worker threads: each holds a worker while
 // it waits, so at most half of them may, and the other routes always have workers left.
-inline int MaxEventWaiters(int http_threads) { return http_threads / 2 > 0 ? http_threads / 2 : 1; }
+inline int MaxEventWaiters(int http_threads) { return http_threads >= 2 ? http_threads / 2 : 1; }
 
 // Retry-After (seconds) of the 503 beyond that cap.
 inline constexpr int kEventWaitRetryAfterSeconds = 5;
