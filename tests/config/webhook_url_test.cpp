@@ -70,6 +70,11 @@ TEST_SUITE("config") {
     CHECK(config->webhooks[0].timeout_seconds == 3);
     CHECK(config->webhooks[1].secret == "0123456789abcdef");
     CHECK(config->webhooks[1].timeout_seconds == 10);
+    const std::string summary = DescribeConfig(*config);
+    CHECK(summary.find("webhooks (2):\n  hub: http://127.0.0.1:8123/in\n"
+                       "  phone: https://relay.example/p\n") != std::string::npos);
+    CHECK(summary.find("correct-horse") == std::string::npos);
+    CHECK(summary.find("0123456789abcdef") == std::string::npos);
   }
 
   TEST_CASE("[[webhook]]: each bad value is one whole message naming file, line and key") {
