@@ -22,4 +22,23 @@ inline constexpr UnixMs kMaxEnergyRangeMs = 400 * 86400 * kMsPerSecond;
 // Live values come from readings ending within this long before now; older ones are stale.
 inline constexpr UnixMs kLiveHorizonMs = 3600 * kMsPerSecond;
 
+// Events in one /v1/events response: a script catching up after a day away gets them in a few
+// requests, and one response stays well under a megabyte of JSON.
+inline constexpr int kMaxEventsPerResponse = 1000;
+inline constexpr int kDefaultEventsPerResponse = 100;
+
+// The longest a long-poll may wait (the `wait` parameter, seconds): below the idle timeouts
+// of common proxies and HTTP clients (60 s and more, common practice).
+inline constexpr int kMaxEventWaitSeconds = 60;
+
+// Long-polls waiting at once, as a share of the HTTP worker threads: each holds a worker while
+// it waits, so at most half of them may, and the other routes always have workers left.
+inline int MaxEventWaiters(int http_threads) { return http_threads >= 2 ? http_threads / 2 : 1; }
+
+// Retry-After (seconds) of the 503 beyond that cap.
+inline constexpr int kEventWaitRetryAfterSeconds = 5;
+
+// The longest silence one request may set: 30 days.
+inline constexpr double kMaxSilenceSeconds = 30 * 86400;
+
 }  // namespace ampledger

@@ -6,6 +6,7 @@
 #include <nlohmann/json.hpp>
 
 #include "api/access.h"
+#include "api/alert_routes.h"
 #include "api/api_limits.h"
 #include "api/energy_route.h"
 #include "api/health.h"
@@ -289,8 +290,6 @@ enum class Reach {
   kSiteWide,  // admin or viewer; a unit token is told the route does not exist
 };
 
-using ScopedHandler =
-    std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;
 
 HttpResponse Unauthorized(const std::string& detail, bool token_presented) {
   HttpResponse response;
@@ -329,6 +328,10 @@ HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handle
 }
 
 }  // namespace
+
+HttpHandler RequireToken(const ApiContext& context, ScopedHandler handler) {
+  return Guarded(context, Reach::kScoped, std::move(handler));
+}
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context) {
   auto site = std::make_shared<SiteZone>();
@@ -395,6 +398,7 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest& request, const Database& db,
                                  const Scope&) { return Metrics(context, db, request); }));
+  if (context.alerts != nullptr) AddAlertRoutes(server, context);
 }
 
 }  // namespace ampledger

@@ -13,12 +13,15 @@
 // an unknown id.
 #pragma once
 
+#include <functional>
 #include <string>
 
 #include "api/http_server.h"
+#include "api/token.h"
 #include "config/config.h"
 #include "daemon/ingest/ingest_stats.h"
 #include "daemon/ingest/udp_receiver.h"
+#include "storage/alert_recorder.h"
 #include "storage/reading_writer.h"
 #include "storage/series.h"
 
@@ -32,8 +35,19 @@ struct ApiContext {
   const ReadingWriter* writer;
   const IngestStats* ingest;
   const UdpReceiver* receiver;  // for the kernel's drop count
+  // The alert rules' recorder: alert and event routes (api/alert_routes.h); nullptr = none.
+  AlertRecorder* alerts = nullptr;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);
+
+// A handler that runs for a valid bearer token, on the request's own reader connection, with
+// the token's scope (route files use it through RequireToken).
+using ScopedHandler =
+    std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;
+
+// Wraps `handler` in the token check every route but /v1/health has (401 without a valid
+// token); the handler decides what the scope may see.
+HttpHandler RequireToken(const ApiContext& context, ScopedHandler handler);
 
 }  // namespace ampledger

@@ -173,6 +173,18 @@ struct AlertRuleConfig {
   std::string budget_period = "day";  // day | week | cycle
 };
 
+// [[webhook]]: a URL that receives every alert event as a signed JSON POST (api/ALERTS.md
+// documents the body, the signature and the retries).
+struct WebhookConfig {
+  std::string id;   // required; unique among webhooks; names its deliveries in the outbox
+  std::string url;  // required; "http://host[:port]/path" or "https://...", see ParseWebhookUrl
+  // The HMAC-SHA256 key, from `secret` or the first line of `secret_file` (relative paths
+  // against the config file's folder): 16 to 256 characters. Secret: never logged or put in a
+  // message.
+  std::string secret;
+  double timeout_seconds = 10;  // one attempt's connect + write + read limit (1..60)
+};
+
 enum class SyncMode { kOff, kNormal, kFull, kExtra };  // PRAGMA synchronous
 
 // [storage]
@@ -237,6 +249,7 @@ struct Config {
   std::vector<SharedCircuitConfig> shared;
   std::optional<ShareConfig> remainder;  // split of the unmetered remainder; none = not billed
   std::vector<AlertRuleConfig> alerts;
+  std::vector<WebhookConfig> webhooks;
   StorageConfig storage;
   IngestConfig ingest;
   HttpConfig http;
@@ -323,6 +336,18 @@ struct ListenAddress {
   int port = 0;
 };
 Result<ListenAddress> ParseListenAddress(std::string_view text);
+
+// A webhook URL split up: "http://hub.lan:8123/ampledger/events?src=1" -> http, "hub.lan",
+// 8123, "/ampledger/events?src=1". The host is a DNS name, an IPv4 address or "[v6]" (kept
+// with its brackets); the port defaults to 80 / 443; the path defaults to "/" and may carry a
+// query but no fragment, spaces or control characters. InvalidArgument says what was expected.
+struct WebhookUrl {
+  bool https = false;
+  std::string host;
+  int port = 0;
+  std::string path;
+};
+Result<WebhookUrl> ParseWebhookUrl(std::string_view text);
 
 // Names used in config files and in DescribeConfig, e.g. "cose", "power_above", "full".
 const char* AuthModeName(AuthMode mode);

@@ -125,6 +125,12 @@ std::string DescribeConfig(const Config& config) {
   out << "alert rules (" << config.alerts.size() << "):\n";
   for (const AlertRuleConfig& alert : config.alerts)
     out << "  " << DescribeAlert(alert, site.currency) << "\n";
+  if (!config.webhooks.empty()) {
+    out << "webhooks (" << config.webhooks.size() << "):\n";
+    for (const WebhookConfig& webhook : config.webhooks) {  // the secret is never shown
+      out << "  " << webhook.id << ": " << webhook.url << "\n";
+    }
+  }
 
   out << "storage: " << config.storage.path << " (synchronous "
       << SyncModeName(config.storage.synchronous) << ", raw readings kept "

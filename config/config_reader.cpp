@@ -5,6 +5,7 @@
 
 #include <date/tz.h>
 
+#include <cctype>
 #include <cerrno>
 #include <cstring>
 #include <filesystem>
@@ -60,8 +61,8 @@ class ConfigReader {
 
   Status Read(const toml::table& root, Config* config) {
     TableReader r(&context_, root, "");
-    r.AllowOnly({"site", "node", "circuit", "unit", "shared", "remainder", "alert", "storage",
-                 "ingest", "http", "log"});
+    r.AllowOnly({"site", "node", "circuit", "unit", "shared", "remainder", "alert", "webhook",
+                 "storage", "ingest", "http", "log"});
     ReadSite(r, config);
     ReadNodes(r, &config->nodes);
     ReadCircuits(r, config->site, &config->circuits);
@@ -74,6 +75,7 @@ class ConfigReader {
       ReadShare(remainder, &*config->remainder);
     }
     ReadAlerts(r, &config->alerts);
+    ReadWebhooks(r, &config->webhooks);
     if (const toml::table* table = r.Table("storage", "[storage]")) {
       ReadStorage(TableReader(&context_, *table, "storage"), &config->storage);
     }
@@ -371,6 +373,52 @@ class ConfigReader {
     for (size_t i = 0; i < tables.size() && !root.failed(); ++i) {
       TableReader r(&context_, *tables[i], Indexed("alert", i));
       ReadAlertRule(r, &alerts->emplace_back());
+    }
+  }
+
+  void ReadWebhooks(TableReader& root, std::vector<WebhookConfig>* webhooks) {
+    std::vector<const toml::table*> tables = root.Tables("webhook", "[[webhook]]");
+    for (size_t i = 0; i < tables.size(); ++i) {
+      TableReader r(&context_, *tables[i], Indexed("webhook", i));
+      WebhookConfig& webhook = webhooks->emplace_back();
+      r.AllowOnly({"id", "url", "secret", "secret_file", "timeout_seconds"});
+      r.Id("id", &webhook.id);
+      if (r.String("url", &webhook.url, Need::kRequired)) {
+        Result<WebhookUrl> url = ParseWebhookUrl(webhook.url);
+        if (!url.ok()) r.Fail("url", url.status().message());
+      }
+      ReadWebhookSecret(r, &webhook.secret);
+      r.Number("timeout_seconds", &webhook.timeout_seconds, {1, 60});
+    }
+  }
+
+  // The secret never reaches a message: errors describe only its length.
+  void ReadWebhookSecret(TableReader& r, std::string* secret) {
+    if (r.Has("secret") == r.Has("secret_file")) {
+      r.Fail("secret", r.Has("secret") ? "give secret or secret_file, not both"
+                                       : "missing; expected secret or secret_file");
+      return;
+    }
+    std::string key = r.Has("secret") ? "secret" : "secret_file";
+    if (key == "secret") {
+      if (!r.String("secret", secret)) return;
+    } else {
+      std::string file;
+      if (!r.String("secret_file", &file)) return;
+      std::string path = ResolvePath(base_dir_, file);
+      std::ifstream in(path, std::ios::binary);
+      if (!in) {
+        r.Fail("secret_file", "cannot read " + Quote(path) + ": " + std::strerror(errno));
+        return;
+      }
+      std::getline(in, *secret);
+      while (!secret->empty() && std::isspace(static_cast<unsigned char>(secret->back()))) {
+        secret->pop_back();
+      }
+    }
+    if (secret->size() < 16 || secret->size() > 256) {
+      r.Fail(key, "expected a secret of 16 to 256 characters, got " +
+                      std::to_string(secret->size()));
     }
   }
 

@@ -56,6 +56,7 @@ class Validator {
     if (s.ok()) s = CheckUniqueIds(config_.circuits, "circuit", "circuit", lines_);
     if (s.ok()) s = CheckUniqueIds(config_.units, "unit", "unit", lines_);
     if (s.ok()) s = CheckUniqueIds(config_.alerts, "alert", "alert", lines_);
+    if (s.ok()) s = CheckUniqueIds(config_.webhooks, "webhook", "webhook", lines_);
     return s;
   }
 

@@ -8,11 +8,13 @@
 
 #include "api/api_routes.h"
 #include "api/http_server.h"
+#include "api/webhook_sender.h"
 #include "daemon/ingest/ingest_stats.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "daemon/ingest_loop.h"
 #include "daemon/metering/tariff_schedule.h"
 #include "daemon/sd_notify.h"
+#include "storage/alert_recorder.h"
 #include "storage/database.h"
 #include "storage/reading_writer.h"
 #include "storage/series.h"
@@ -90,10 +92,22 @@ class ServiceImpl {
     Result<std::vector<NodeState>> node_states = LoadNodeStates(*db_);
     if (!node_states.ok()) return node_states.status();
 
+    // Alert rules run inside the writer's transactions (storage/alert_recorder.h says why).
+    AlertRecorderOptions alert_options;
+    for (const WebhookConfig& webhook : config_.webhooks) {
+      alert_options.webhooks.push_back(webhook.id);
+    }
+    Result<std::unique_ptr<AlertRecorder>> alerts =
+        AlertRecorder::Create(config_, *db_, alert_options);
+    if (!alerts.ok()) return alerts.status();
+    alerts_ = std::move(alerts).value();
+    WriterOptions writer_options;
+    writer_options.hook = alerts_.get();
     Result<std::unique_ptr<ReadingWriter>> writer =
-        ReadingWriter::Start(config_, db_.get(), *series);
+        ReadingWriter::Start(config_, db_.get(), *series, writer_options);
     if (!writer.ok()) return writer.status();
     writer_ = std::move(writer).value();
+    alerts_->Start(writer_.get());
 
     Result<std::unique_ptr<UdpReceiver>> receiver = UdpReceiver::Open(config_.ingest);
     if (!receiver.ok()) return receiver.status();
@@ -102,8 +116,15 @@ class ServiceImpl {
                                            &notifier_);
     if (Status restored = ingest_->RestoreState(*node_states); !restored.ok()) return restored;
 
-    AddApiRoutes(http_, ApiContext{&config_, &series_, config_.storage.path, writer_.get(),
-                                   &stats_, receiver_.get()});
+    ApiContext api{&config_, &series_, config_.storage.path, writer_.get(), &stats_,
+                   receiver_.get()};
+    api.alerts = alerts_.get();
+    AddApiRoutes(http_, api);
+    WebhookSenderOptions sender_options;
+    sender_options.warn = [](const std::string& line) { spdlog::warn("{}", line); };
+    webhooks_ = std::make_unique<WebhookSender>(config_, config_.storage.path, alerts_.get(),
+                                                sender_options);
+    webhooks_->Start();
     return http_.Start();
   }
 
@@ -112,11 +133,15 @@ class ServiceImpl {
   void StopParts() {
     stopping_ = true;
     if (ingest_thread_.joinable()) ingest_thread_.join();
+    if (webhooks_) webhooks_->Stop();
+    if (alerts_) alerts_->Stop();  // no more timer ticks; long-polls return
     if (writer_) writer_->Stop();
     http_.Stop();
     ingest_.reset();
     receiver_.reset();
     writer_.reset();
+    webhooks_.reset();
+    alerts_.reset();
     db_.reset();
   }
 
@@ -127,7 +152,9 @@ class ServiceImpl {
   HttpServer http_;
   std::unique_ptr<Database> db_;  // the writer's connection
   SeriesMap series_;
+  std::unique_ptr<AlertRecorder> alerts_;  // the writer's hook: outlives it
   std::unique_ptr<ReadingWriter> writer_;
+  std::unique_ptr<WebhookSender> webhooks_;
   std::unique_ptr<UdpReceiver> receiver_;
   std::unique_ptr<IngestLoop> ingest_;
   std::thread ingest_thread_;

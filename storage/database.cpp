@@ -86,6 +86,45 @@ CREATE TABLE main_meter_read (
 );
 CREATE INDEX main_meter_read_at ON main_meter_read (at_ms);
 )sql",
+      // 4: alerts (storage/alert_recorder.h): one row per (rule, subject) with the rule's state,
+      // the append-only event log, and the webhook outbox. Rule ids and subjects are names
+      // from the config, so the rows mean the same whatever else the config lists.
+      R"sql(
+CREATE TABLE alert (
+  rule TEXT NOT NULL,               -- [[alert]] id
+  subject TEXT NOT NULL,            -- "circuit:<id>", "unit:<id>" or "node:<id>"
+  state TEXT NOT NULL,              -- AlertState::Serialize()
+  active INTEGER NOT NULL,          -- 1 while the alert is raised (or the node silent)
+  raised_ms INTEGER,                -- when it became active; NULL when not active
+  condition_event INTEGER,          -- the alert_event.id describing it now (raised, changed)
+  last_event INTEGER,               -- newest alert_event.id of this (rule, subject)
+  acked_ms INTEGER,                 -- when a person acknowledged the active alert
+  acked_by TEXT,
+  silenced_until_ms INTEGER,        -- no webhooks for its events before this time
+  PRIMARY KEY (rule, subject)
+) WITHOUT ROWID;
+-- Append-only; AUTOINCREMENT so an id is never used twice, even after the newest rows go.
+CREATE TABLE alert_event (
+  id INTEGER PRIMARY KEY AUTOINCREMENT,
+  at_ms INTEGER NOT NULL,           -- when it happened, ms since 1970 UTC
+  recorded_ms INTEGER NOT NULL,     -- when it was committed
+  kind TEXT NOT NULL,               -- AlertEventKindName()
+  rule TEXT NOT NULL,
+  subject TEXT NOT NULL,
+  reason TEXT NOT NULL,
+  value_json TEXT NOT NULL,         -- {"watts": 3120, ...}
+  by TEXT NOT NULL,                 -- who acknowledged or silenced; "" for the daemon
+  silenced INTEGER NOT NULL         -- 1: recorded while silenced, so not sent to webhooks
+);
+CREATE TABLE webhook_outbox (
+  event INTEGER NOT NULL REFERENCES alert_event (id),
+  hook TEXT NOT NULL,               -- [[webhook]] id
+  attempts INTEGER NOT NULL,        -- failed attempts so far
+  next_ms INTEGER NOT NULL,         -- not before this time
+  last_error TEXT NOT NULL,
+  PRIMARY KEY (hook, event)
+) WITHOUT ROWID;
+)sql",
   };
   return kMigrations;
 }

@@ -13,6 +13,9 @@
 //   node_state(node, blob)             ingest's per-node state (anti-replay window)
 //   api_token(id, secret_sha256, ...)  API bearer tokens, hashed (storage/token_store.h)
 //   main_meter_read(id, kind, ...)     main (utility) meter reads (storage/main_meter_store.h)
+//   alert(rule, subject, state, ...)   alert rule state per subject (storage/alert_recorder.h)
+//   alert_event(id, ...)               append-only alert events, increasing ids
+//   webhook_outbox(hook, event, ...)   events still to be posted to each webhook
 #pragma once
 
 #include <sqlite3.h>
@@ -29,7 +32,7 @@ namespace ampledger {
 
 // The schema version this build writes (PRAGMA user_version). Migration N takes a database
 // from version N-1 to N.
-constexpr int kSchemaVersion = 3;
+constexpr int kSchemaVersion = 4;
 
 class Database {
  public:

@@ -176,6 +176,9 @@ void ReadingWriter::Run() {
       lock.unlock();
       Result<std::unique_ptr<RollupBuilder>> rollups =
           RollupBuilder::Create(db_, series_, max_gap_ms_);
+      if (rollups.ok() && options_.hook) {
+        if (Status reloaded = options_.hook->Reload(*db_); !reloaded.ok()) rollups = reloaded;
+      }
       lock.lock();
       if (rollups.ok()) {
         rollups_ = std::move(rollups.value());
@@ -219,7 +222,8 @@ Status ReadingWriter::Transaction(const std::function<Status()>& body, std::stri
 
 Status ReadingWriter::Commit(std::vector<Queued>& items, bool write_open) {
   rollups_->set_raw_kept_from_ms(RetentionCutoff());
-  return Transaction(
+  stored_.clear();
+  Status status = Transaction(
       [&] {
         // A node's state only moves forward from batch to batch, so of the states in this
         // transaction only each node's last one needs writing.
@@ -237,9 +241,14 @@ Status ReadingWriter::Commit(std::vector<Queued>& items, bool write_open) {
         }
         Status s = rollups_->Finish(write_open);
         assert(rollups_->CheckInvariants());
+        if (s.ok() && options_.hook) {
+          s = options_.hook->InTransaction(*db_, stored_, options_.clock());
+        }
         return s;
       },
       "commit readings");
+  if (options_.hook) options_.hook->AfterTransaction(status);
+  return status;
 }
 
 Status ReadingWriter::WriteReadings(const std::vector<ChannelReading>& readings) {
@@ -247,7 +256,9 @@ Status ReadingWriter::WriteReadings(const std::vector<ChannelReading>& readings)
   for (const ChannelReading& reading : readings) {
     BindReading(insert_reading_, reading, series_.channel_ids[reading.channel]);
     if (Status s = insert_reading_.Run("insert reading"); !s.ok()) return s;
-    if (sqlite3_changes(handle) > 0) rollups_->Add(reading);  // 0: stored already
+    if (sqlite3_changes(handle) == 0) continue;  // stored already
+    rollups_->Add(reading);
+    if (options_.hook) stored_.push_back(reading);
   }
   return Status();
 }

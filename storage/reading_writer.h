@@ -32,6 +32,7 @@
 
 #include "config/config.h"
 #include "daemon/metering/reading.h"
+#include "storage/commit_hook.h"
 #include "storage/database.h"
 #include "storage/rollup_builder.h"
 #include "storage/series.h"
@@ -64,6 +65,9 @@ struct WriterOptions {
   int open_bucket_flush_ms = 60 * 1000;
   // After an Unavailable error (disk full), how long until writing is tried again.
   int retry_after_ms = 5 * 1000;
+  // Writes its own rows in every transaction that commits batches (storage/commit_hook.h);
+  // nullptr = none. Must outlive the writer.
+  CommitHook* hook = nullptr;
 };
 
 class ReadingWriter {
@@ -78,7 +82,8 @@ class ReadingWriter {
   ReadingWriter(const ReadingWriter&) = delete;
   ReadingWriter& operator=(const ReadingWriter&) = delete;
 
-  // Queues `batch`. `done` runs exactly once: with OK after the batch committed (on the
+  // Queues `batch` (an empty batch asks for a transaction, e.g. for the hook's own work).
+  // `done` runs exactly once: with OK after the batch committed (on the
   // writer thread); or, on the calling thread before Submit returns, with InvalidArgument
   // (a channel index out of range), Unavailable (queue full, or stopped) or the sticky error.
   // `done` may run on the writer thread: it must not call Stop(), and it should be quick
@@ -123,6 +128,7 @@ class ReadingWriter {
   Statement insert_reading_;
   Statement upsert_node_state_;
   Statement delete_old_;
+  std::vector<ChannelReading> stored_;  // newly stored by the transaction being written
   Clock::time_point next_retention_;
   Clock::time_point next_open_flush_;
   UnixMs open_written_at_ms_ = 0;  // rollups_->newest_ms() when open buckets were last written

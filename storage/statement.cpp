@@ -49,6 +49,7 @@ Result<Statement> Statement::Prepare(sqlite3* db, const std::string& path, std::
 
 void Statement::Bind(int index, std::int64_t value) { sqlite3_bind_int64(stmt_, index, value); }
 void Statement::Bind(int index, double value) { sqlite3_bind_double(stmt_, index, value); }
+void Statement::BindNull(int index) { sqlite3_bind_null(stmt_, index); }
 void Statement::Bind(int index, std::string_view text) {
   sqlite3_bind_text(stmt_, index, text.data(), static_cast<int>(text.size()), SQLITE_TRANSIENT);
 }

@@ -38,6 +38,7 @@ class Statement {
   void Bind(int index, std::string_view text);
   void BindBlob(int index, std::string_view bytes);
   void Bind(int index, const std::optional<double>& value);  // NULL when absent
+  void BindNull(int index);
 
   // Runs one step: true with a row, false when done; errors name `what`. A statement that
   // fails or finishes must be Reset() before it runs again.

@@ -6,6 +6,7 @@
 #include <httplib.h>
 
 #include <chrono>
+#include <future>
 #include <cmath>
 #include <nlohmann/json.hpp>
 #include <thread>
@@ -187,6 +188,68 @@ TEST_SUITE("daemon") {
     CHECK(testing::QueryDouble(db_path, "SELECT count(*) FROM reading") == kPacks);
     double stored_wh = testing::QueryDouble(db_path, "SELECT sum(real_wh) FROM rollup");
     CHECK(stored_wh == doctest::Approx(truth_wh).epsilon(1e-9));
+  }
+
+  TEST_CASE("alerts: readings over UDP raise an alert a long-poll receives; it survives a restart") {
+    testing::TempDir dir;
+    Config config = BenchConfig(dir);
+    AlertRuleConfig& rule = config.alerts.emplace_back();
+    rule.id = "heater-high";
+    rule.kind = AlertKind::kPowerAbove;
+    rule.circuits = {"heater"};
+    rule.level_watts = 1000;
+    rule.clear_watts = 500;
+    rule.hold_seconds = 20;
+    NodeClientOptions options;
+    options.node = "bench";
+    options.key = BenchKey();
+    options.resend_after_ms = 20;
+    const UnixMs end = WallClockMs();
+    const std::string token = [&] {
+      Service service(config);  // migrates the database the token goes into
+      REQUIRE(service.Start().ok());
+      std::string issued = testing::ViewerToken(config);
+      httplib::Client api("127.0.0.1", service.http_port());
+      api.set_bearer_token_auth(issued);
+      api.set_read_timeout(40);
+      auto waiter = std::async(std::launch::async, [&] {
+        return api.Get("/v1/events?after=0&wait=30");
+      });
+      auto client = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), options);
+      REQUIRE(client.ok());
+      for (std::uint32_t seq = 1; seq <= 3; ++seq) {  // 2 kW from end - 30 s to end
+        REQUIRE((*client)->Send(HeaterPack(1, seq, end - (3 - seq) * 10000, 2000, seq * 2e4))
+                    .ok());
+      }
+      DrainAcks(**client);
+      httplib::Result answer = waiter.get();
+      REQUIRE(answer);
+      REQUIRE(answer->status == 200);
+      nlohmann::json events = nlohmann::json::parse(answer->body)["events"];
+      REQUIRE(events.size() == 1);
+      CHECK(events[0]["kind"] == "raised");
+      CHECK(events[0]["rule"] == "heater-high");
+      // The first interval began at end - 30 s; the second, ending at end - 10 s, meets the hold.
+      CHECK(events[0]["values"]["held_s"] == 20);
+      return issued;
+    }();
+    Service service(config);
+    REQUIRE(service.Start().ok());
+    httplib::Client api("127.0.0.1", service.http_port());
+    api.set_bearer_token_auth(token);
+    httplib::Result active = api.Get("/v1/alerts");
+    REQUIRE(active);
+    CHECK(nlohmann::json::parse(active->body)["alerts"].size() == 1);
+    auto client = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), options);
+    REQUIRE(client.ok());
+    REQUIRE((*client)->Send(HeaterPack(1, 4, end + 10000, 100, 6.1e4)).ok());
+    DrainAcks(**client);
+    httplib::Result events = api.Get("/v1/events?after=1&wait=10");
+    REQUIRE(events);
+    nlohmann::json cleared = nlohmann::json::parse(events->body)["events"];
+    REQUIRE(cleared.size() == 1);
+    CHECK(cleared[0]["kind"] == "cleared");
+    CHECK(nlohmann::json::parse(api.Get("/v1/alerts")->body)["alerts"].empty());
   }
 }
 
