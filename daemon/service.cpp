@@ -8,6 +8,7 @@
 
 #include "api/api_routes.h"
 #include "api/http_server.h"
+#include "api/web_routes.h"
 #include "daemon/ingest/ingest_stats.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "daemon/ingest_loop.h"
@@ -98,6 +99,7 @@ class ServiceImpl {
 
     AddApiRoutes(http_, ApiContext{&config_, &series_, config_.storage.path, writer_.get(),
                                    &stats_, receiver_.get()});
+    AddWebRoutes(http_);
     return http_.Start();
   }
 
