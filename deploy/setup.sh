@@ -20,6 +20,11 @@ if [ "$action" = test ]; then
   # dpkg-dev and file (CPack's shared-library dependencies) and fakeroot (dpkg as non-root)
   # for the .deb test.
   packages+=(clang xxd systemd dpkg-dev file fakeroot)
+  # The dashboard's browser test: Debian's chromium, driven by playwright-core from npm.
+  packages+=(chromium)
+  # node and npm from Debian unless the machine already has them (e.g. from another source).
+  command -v node > /dev/null || packages+=(nodejs)
+  command -v npm > /dev/null || packages+=(npm)
 fi
 
 missing=()
