@@ -39,6 +39,11 @@ export function formatKwh(kwh) {
   return `${kwh.toFixed(digits)} kWh`;
 }
 
+// Energy in Wh below a kWh ("340 Wh"), else as formatKwh.
+export function formatWh(wh) {
+  return Math.abs(wh) < 1000 ? `${Math.round(wh)} Wh` : formatKwh(wh / 1000);
+}
+
 // "12 s ago", "4 min ago", "3 h ago", "2 days ago".
 export function formatAge(seconds) {
   if (seconds < 90) return `${Math.max(0, Math.round(seconds))} s ago`;

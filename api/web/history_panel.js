@@ -50,9 +50,10 @@ export class HistoryPanel {
       },
     }, label)));
     const presets = document.getElementById('range-presets');
-    presets.replaceChildren(...this.presets.map((preset) => el('button', {
-      type: 'button', onclick: () => this.show(...preset.range(Date.now())),
-    }, preset.label)));
+    this.presetButtons = this.presets.map((preset) => el('button', {
+      type: 'button', 'aria-pressed': 'false', onclick: () => this.show(...preset.range(Date.now())),
+    }, preset.label));
+    presets.replaceChildren(...this.presetButtons);
     document.getElementById('range-back').addEventListener('click', () => this.shift(-1));
     document.getElementById('range-forward').addEventListener('click', () => this.shift(1));
     document.getElementById('range-out').addEventListener('click', () => {
@@ -97,6 +98,10 @@ export class HistoryPanel {
 
   async show(a, b) {
     const [from, to, step] = this.aligned(a, b);
+    this.presets.forEach((preset, i) => {
+      const [presetFrom, presetTo] = this.aligned(...preset.range(Date.now()));
+      this.presetButtons[i].setAttribute('aria-pressed', String(presetFrom === from && presetTo === to));
+    });
     this.from = from;
     this.to = to;
     const generation = ++this.generation;

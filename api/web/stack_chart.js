@@ -5,7 +5,7 @@
 // still told apart. The chart is drawn at the width it is shown at, so its text stays readable
 // on a phone.
 // Dragging across the plot asks for that range (onZoom); moving over it reads out a period.
-import { el, svg, formatKwh, formatWatts, siteFormat } from './dom.js';
+import { el, svg, formatKwh, formatWatts, formatWh, siteFormat } from './dom.js';
 
 const MARGIN = { left: 58, right: 12, top: 12, bottom: 30 };
 const STRIDES = {
@@ -89,6 +89,8 @@ export class StackChart {
         d: `M${outline.map(([px, py]) => `${px.toFixed(1)},${py.toFixed(1)}`).join('L')}Z` }));
     }
     root.dataset.points = String(pointCount);
+    root.dataset.step = view.step;
+    root.dataset.from = String(view.from);
 
     this.guide = svg('line', { class: 'guide', y1: MARGIN.top, y2: height - MARGIN.bottom,
       visibility: 'hidden' });
@@ -185,7 +187,7 @@ export class StackChart {
           minute: '2-digit', hourCycle: 'h23' });
     const parts = this.view.series
       .filter((s) => s.points[k].wh !== 0)
-      .map((s) => `${s.label} ${formatKwh(s.points[k].wh / 1000)}`);
+      .map((s) => `${s.label} ${formatWh(s.points[k].wh)}`);
     this.readout.textContent = `${when(points[k].start)}: ${
       parts.length ? parts.join(' · ') : 'nothing measured'}`;
   }

@@ -172,7 +172,26 @@ async function main() {
     check(yearPoints > 0 && /per month/.test(yearLabel),
       `the chart zooms out to a year in months with data (${yearLabel}: ${yearPoints} points)`);
     await page.click('#range-presets button:has-text("Day")');
-    await page.waitForFunction(() => /per quarter hour/.test(document.getElementById('range-label').textContent));
+    await page.waitForFunction(() => /per quarter hour/.test(document.getElementById('range-label').textContent)
+      && document.querySelector('svg.stack-chart').dataset.step === '15m');
+    // Dragging across the middle fifth of the day zooms into those hours.
+    const dayLabel = await page.textContent('#range-label');
+    const box = await (await page.$('svg.stack-chart')).boundingBox();
+    await page.mouse.move(box.x + box.width * 0.4, box.y + box.height / 2);
+    const readout = await page.textContent('.chart-readout');
+    check(/^\w{3}, .*\d\d:\d\d: .*Wh/.test(readout), `moving over the chart reads out a period (${readout})`);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width * 0.6, box.y + box.height / 2, { steps: 5 });
+    await page.mouse.up();
+    const dayFrom = await page.$eval('svg.stack-chart', (chart) => chart.dataset.from);
+    await page.waitForFunction((before) => document.querySelector('svg.stack-chart').dataset.from !== before,
+      dayFrom);
+    const zoomedLabel = await page.textContent('#range-label');
+    check(/per quarter hour/.test(zoomedLabel) && zoomedLabel !== dayLabel,
+      `dragging across the chart zooms in (${dayLabel} -> ${zoomedLabel})`);
+    await page.click('#range-presets button:has-text("Day")');
+    await page.waitForFunction((before) => document.querySelector('svg.stack-chart').dataset.from === before,
+      dayFrom);
     await page.waitForTimeout(1500);
     await page.screenshot({ path: path.join(workDir, 'dashboard.png'), fullPage: true });
     check(viewer.errors.length === 0, `no console errors on the viewer's page${
