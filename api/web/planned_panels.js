@@ -22,7 +22,9 @@ function plannedPanels(site, now) {
     { title: 'Active alerts', path: '/v1/alerts', query: {} },
     { title: 'Recent events', path: '/v1/events', query: { after: '0' } },
     unit && { title: `Statement for ${site.units[0].name || unit}, ${cycle}`,
-      path: `/v1/units/${encodeURIComponent(unit)}/statements/${cycle}`, query: {} },
+      path: `/v1/units/${encodeURIComponent(unit)}/statements/${cycle}`, query: {},
+      note: 'Billing tenants for energy is regulated in many places; local law decides whether '
+        + 'and how a statement may be used.' },
   ].filter(Boolean);
 }
 
@@ -32,7 +34,7 @@ export async function showPlannedPanels(api, site) {
   const items = await Promise.all(panels.map(async (panel) => {
     const body = el('div', { class: 'planned-body' });
     const item = el('div', { class: 'planned', 'data-route': panel.path },
-      el('h3', {}, panel.title), body);
+      el('h3', {}, panel.title), panel.note && el('p', { class: 'quiet' }, panel.note), body);
     try {
       body.append(renderJson(await api.get(panel.path, panel.query), 0));
       item.classList.add('offered');
