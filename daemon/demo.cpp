@@ -73,6 +73,9 @@ Status AnnounceDemoToken(const Config& config, const std::string& http_listen) {
   spdlog::info("try: curl -H 'Authorization: Bearer {}' http://{}/v1/live (also /v1/site, "
                "/v1/nodes, /v1/circuits); Ctrl-C stops the demo",
                token->token, http_listen);
+  // The token rides in the fragment, which the browser never sends: the page keeps it for the
+  // tab (sessionStorage) and clears it from the address bar.
+  spdlog::info("dashboard: open http://{}/#token={} in a browser", http_listen, token->token);
   return Status::Ok();
 }
 

@@ -8,6 +8,7 @@
 
 #include "api/api_routes.h"
 #include "api/http_server.h"
+#include "api/web_routes.h"
 #include "api/webhook_sender.h"
 #include "daemon/ingest/ingest_stats.h"
 #include "daemon/ingest/udp_receiver.h"
@@ -120,6 +121,7 @@ class ServiceImpl {
                    receiver_.get()};
     api.alerts = alerts_.get();
     AddApiRoutes(http_, api);
+    AddWebRoutes(http_);
     WebhookSenderOptions sender_options;
     sender_options.warn = [](const std::string& line) { spdlog::warn("{}", line); };
     webhooks_ = std::make_unique<WebhookSender>(config_, config_.storage.path, alerts_.get(),

@@ -22,6 +22,9 @@ if [ "$action" = test ]; then
   # (Node.js builds that ship their own npm conflict with Debian's npm package); openssl for
   # the TLS test's certificate.
   packages+=(clang xxd systemd dpkg-dev file fakeroot prometheus openssl)
+  # The dashboard's browser test: Debian's chromium, driven by playwright-core from npm.
+  packages+=(chromium)
+  # node and npm from Debian unless the machine already has them (e.g. from another source).
   command -v node > /dev/null || packages+=(nodejs)
   command -v npm > /dev/null || packages+=(npm)
 fi
