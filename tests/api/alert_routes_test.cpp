@@ -15,6 +15,7 @@
 #include "api/token.h"
 #include "config/wall_clock.h"
 #include "storage/series.h"
+#include "openapi_routes.h"
 #include "test_util.h"
 
 namespace ampledger {
@@ -149,6 +150,15 @@ struct AlertApi {
 };
 
 TEST_SUITE("api") {
+  TEST_CASE("alert routes: the OpenAPI document lists every route of a server with alerts") {
+    AlertApi api;
+    const nlohmann::json document =
+        nlohmann::json::parse(testing::ReadFile(testing::SourceDir() / "api/openapi.json"));
+    const std::set<std::string> served = testing::ServedRoutes(api.server);
+    CHECK(served.count("POST /v1/alerts/{}/{}/{}/acknowledge") == 1);
+    CHECK(served == testing::DocumentedRoutes(document));
+  }
+
   TEST_CASE("alert routes: a unit token sees only its own alerts and events") {
     AlertApi api;
     api.Store(1, kT0, 1500);  // b-heat
