@@ -1,7 +1,7 @@
-// planned_panels.js: panels whose routes come with newer daemons (costs and tariffs, alerts
-// and events, statements). Each asks its route once; a 404 means this daemon does not offer
-// it, and the panel says so instead of failing. When a route answers, its JSON is shown as a
-// plain table until the panel gets a view of its own.
+// planned_panels.js: panels without a view of their own yet: costs and tariffs and statements
+// (routes newer daemons add), alerts and events (routes this daemon has). Each asks its route
+// once; a 404 means this daemon does not offer it, and the panel says so instead of failing.
+// When a route answers, its JSON is shown as a plain table until the panel gets its own view.
 import { el } from './dom.js';
 import { rfc3339 } from './site_time.js';
 
@@ -15,7 +15,7 @@ function plannedPanels(site, now) {
   const cycle = new Intl.DateTimeFormat('en-CA', { timeZone: site.zone, year: 'numeric',
     month: '2-digit' }).format(new Date(now));
   return [
-    { title: 'Cost by rate period', path: '/v1/energy',
+    { title: 'Cost by rate period', path: '/v1/cost',
       query: { from: rfc3339(monthStart), to: rfc3339(site.time.addDays(today, 1)),
         group: 'rate_period' } },
     { title: 'Current rate and price', path: '/v1/tariff/now', query: {} },
