@@ -13,15 +13,6 @@ namespace {
 
 using nlohmann::json;
 
-const char* QualityName(Quality quality) {
-  switch (quality) {
-    case Quality::kMeasured: return "measured";
-    case Quality::kDerived: return "derived";
-    case Quality::kEstimated: return "estimated";
-  }
-  return "estimated";
-}
-
 // The row of `circuits` (positions in `visible`) summed over `range`.
 EnergyRow SumRow(const Config& config, std::string id, std::string name,
                  const std::vector<int>& positions, const std::vector<int>& visible,

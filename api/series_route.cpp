@@ -16,15 +16,6 @@ namespace {
 
 using nlohmann::json;
 
-const char* QualityName(Quality quality) {
-  switch (quality) {
-    case Quality::kMeasured: return "measured";
-    case Quality::kDerived: return "derived";
-    case Quality::kEstimated: return "estimated";
-  }
-  return "estimated";
-}
-
 struct SeriesQuery {
   UnixMs from_ms = 0;
   UnixMs to_ms = 0;

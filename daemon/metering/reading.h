@@ -25,6 +25,16 @@ enum class Quality : std::uint8_t {
 
 inline Quality Worse(Quality a, Quality b) { return a > b ? a : b; }
 
+// "measured", "derived" or "estimated": the name the API, exports and statements use.
+inline const char* QualityName(Quality quality) {
+  switch (quality) {
+    case Quality::kMeasured: return "measured";
+    case Quality::kDerived: return "derived";
+    case Quality::kEstimated: return "estimated";
+  }
+  return "estimated";
+}
+
 // What a node sent for one channel over the interval [end_ms - duration_ms, end_ms), in SI
 // units, before calibration. Any value may be missing; current alone is enough.
 struct ChannelSample {
