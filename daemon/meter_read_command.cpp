@@ -9,6 +9,7 @@
 #include "api/rfc3339.h"
 #include "config/config.h"
 #include "config/wall_clock.h"
+#include "daemon/site_database.h"
 #include "storage/database.h"
 #include "storage/main_meter_store.h"
 
@@ -50,24 +51,6 @@ Result<UnixMs> ParseTime(const std::string& text, const std::string& zone_name) 
   } catch (const std::exception& error) {
     return Status::InvalidArgument(zone_name + ": " + error.what());
   }
-}
-
-// Loads the config and opens its database for writing (creating and migrating it if needed).
-int OpenSite(const std::string& config_path, Config* config, std::unique_ptr<Database>* db,
-             std::ostream& err) {
-  Result<Config> loaded = LoadConfig(config_path);
-  if (!loaded.ok()) {
-    err << "ampledger: " << loaded.status().message() << "\n";
-    return 2;
-  }
-  *config = std::move(loaded).value();
-  Result<std::unique_ptr<Database>> opened = Database::Open(config->storage);
-  if (!opened.ok()) {
-    err << "ampledger: " << opened.status().ToString() << "\n";
-    return 1;
-  }
-  *db = std::move(opened).value();
-  return 0;
 }
 
 // The read the options describe, or what is wrong with them.
@@ -115,7 +98,7 @@ Result<MainMeterRead> ReadFromOptions(const MeterReadOptions& options, const Con
 int RunMeterReadAdd(const MeterReadOptions& options, std::ostream& out, std::ostream& err) {
   Config config;
   std::unique_ptr<Database> db;
-  if (int code = OpenSite(options.config_path, &config, &db, err); code != 0) return code;
+  if (int code = OpenSiteDatabase(options.config_path, &config, &db, err); code != 0) return code;
   Result<MainMeterRead> read = ReadFromOptions(options, config);
   if (!read.ok()) {
     err << "ampledger: meter-read add: " << read.status().message() << "\n";
@@ -138,7 +121,7 @@ int RunMeterReadAdd(const MeterReadOptions& options, std::ostream& out, std::ost
 int RunMeterReadList(const MeterReadOptions& options, std::ostream& out, std::ostream& err) {
   Config config;
   std::unique_ptr<Database> db;
-  if (int code = OpenSite(options.config_path, &config, &db, err); code != 0) return code;
+  if (int code = OpenSiteDatabase(options.config_path, &config, &db, err); code != 0) return code;
   Result<LocalTime> zone = LocalTime::ForZone(config.site.time_zone);
   Result<std::vector<MainMeterRead>> reads = ListMainMeterReads(*db);
   if (!zone.ok() || !reads.ok()) {
@@ -161,7 +144,7 @@ int RunMeterReadList(const MeterReadOptions& options, std::ostream& out, std::os
 int RunMeterReadRemove(const MeterReadOptions& options, std::ostream& out, std::ostream& err) {
   Config config;
   std::unique_ptr<Database> db;
-  if (int code = OpenSite(options.config_path, &config, &db, err); code != 0) return code;
+  if (int code = OpenSiteDatabase(options.config_path, &config, &db, err); code != 0) return code;
   Status removed = RemoveMainMeterRead(*db, options.id);
   if (removed.code() == StatusCode::kNotFound) {
     err << "ampledger: meter-read remove: " << removed.message() << "\n";

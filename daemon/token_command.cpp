@@ -7,6 +7,7 @@
 
 #include "api/token.h"
 #include "config/config.h"
+#include "daemon/site_database.h"
 #include "storage/database.h"
 #include "storage/token_store.h"
 
@@ -30,24 +31,6 @@ std::string UtcText(UnixMs instant) {
   char text[32];
   std::strftime(text, sizeof text, "%Y-%m-%dT%H:%M:%SZ", &parts);
   return text;
-}
-
-// Loads the config and opens its database for writing (creating and migrating it if needed).
-int OpenSiteDatabase(const std::string& config_path, Config* config,
-                     std::unique_ptr<Database>* db, std::ostream& err) {
-  Result<Config> loaded = LoadConfig(config_path);
-  if (!loaded.ok()) {
-    err << "ampledger: " << loaded.status().message() << "\n";
-    return 2;
-  }
-  *config = std::move(loaded).value();
-  Result<std::unique_ptr<Database>> opened = Database::Open(config->storage);
-  if (!opened.ok()) {
-    err << "ampledger: " << opened.status().ToString() << "\n";
-    return 1;
-  }
-  *db = std::move(opened).value();
-  return 0;
 }
 
 }  // namespace
