@@ -1,8 +1,6 @@
 // daemon/ingest/cbor_reader.cpp
 #include "daemon/ingest/cbor_reader.h"
 
-#include <algorithm>
-
 #include <cmath>
 #include <cstring>
 #include <limits>
@@ -37,44 +35,40 @@ bool IsValidUtf8(std::string_view s) {
   return true;
 }
 
-class Decoder {
+// Walks one item and everything in it, checking each rule; stores nothing. The checks and
+// their order decide which message a malformed input gets, so they stay in this order. Each
+// step returns false with `error_` set on the first broken rule.
+class Checker {
  public:
-  explicit Decoder(std::string_view in) : in_(in) {}
+  explicit Checker(std::string_view in) : in_(in) {}
 
-  Status Item(CborItem* out, int depth) {
+  bool Item(int depth) {
     if (depth > kMaxCborDepth) return Fail("nesting deeper than 16");
     std::uint8_t initial;
     if (!Byte(&initial)) return Fail("truncated");
     const int major = initial >> 5;
     const int info = initial & 0x1f;
     if (initial == kBreak) return Fail("unexpected break");
-    if (major == 7) return Simple(info, out);
+    if (major == 7) return Simple(info);
     bool indefinite = false;
     std::uint64_t arg = 0;
-    if (Status s = Argument(major, info, &arg, &indefinite); !s.ok()) return s;
+    if (!Argument(major, info, &arg, &indefinite)) return false;
     switch (major) {
-      case 0: out->type = CborItem::Type::kUnsigned; out->value = arg; return Status::Ok();
-      case 1: out->type = CborItem::Type::kNegative; out->value = arg; return Status::Ok();
-      case 2: case 3:
-        out->type = major == 2 ? CborItem::Type::kBytes : CborItem::Type::kText;
-        if (Status s = String(major, arg, indefinite, &out->bytes); !s.ok()) return s;
-        if (major == 3 && !IsValidUtf8(out->bytes)) return Fail("text string is not UTF-8");
-        return Status::Ok();
-      case 4: case 5:
-        out->type = major == 4 ? CborItem::Type::kArray : CborItem::Type::kMap;
-        return Container(major == 5 ? 2 : 1, arg, indefinite, &out->items, depth);
-      default:  // 6: tag
-        out->type = CborItem::Type::kTag;
-        out->value = arg;
-        out->items.resize(1);
-        return Item(&out->items[0], depth + 1);
+      case 0: case 1: return true;
+      case 2: case 3: return String(major, arg, indefinite);
+      case 4: case 5: return Container(major == 5 ? 2 : 1, arg, indefinite, depth);
+      default: return Item(depth + 1);  // 6: the tagged item
     }
   }
 
   bool AtEnd() const { return pos_ == in_.size(); }
+  const char* error() const { return error_; }
 
  private:
-  static Status Fail(const std::string& what) { return Status::InvalidArgument("CBOR: " + what); }
+  bool Fail(const char* what) {
+    error_ = what;
+    return false;
+  }
 
   bool Byte(std::uint8_t* b) {
     if (pos_ >= in_.size()) return false;
@@ -82,129 +76,218 @@ class Decoder {
     return true;
   }
 
-  bool Big(int count, std::uint64_t* v) {
-    if (in_.size() - pos_ < static_cast<std::size_t>(count)) return false;
-    *v = 0;
-    for (int i = 0; i < count; ++i) *v = (*v << 8) | static_cast<std::uint8_t>(in_[pos_++]);
+  bool Skip(std::size_t count) {
+    if (in_.size() - pos_ < count) return false;
+    pos_ += count;
     return true;
   }
 
-  Status Argument(int major, int info, std::uint64_t* arg, bool* indefinite) {
-    if (info < 24) { *arg = info; return Status::Ok(); }
+  bool Argument(int major, int info, std::uint64_t* arg, bool* indefinite) {
+    if (info < 24) { *arg = info; return true; }
     if (info <= 27) {
-      if (!Big(1 << (info - 24), arg)) return Fail("truncated");
-      return Status::Ok();
+      const int count = 1 << (info - 24);
+      if (in_.size() - pos_ < static_cast<std::size_t>(count)) return Fail("truncated");
+      *arg = 0;
+      for (int i = 0; i < count; ++i) *arg = (*arg << 8) | static_cast<std::uint8_t>(in_[pos_++]);
+      return true;
     }
-    if (info == 31 && major >= 2 && major <= 5) { *indefinite = true; return Status::Ok(); }
+    if (info == 31 && major >= 2 && major <= 5) { *indefinite = true; return true; }
     return Fail("reserved additional information");
   }
 
-  Status String(int major, std::uint64_t length, bool indefinite, std::string* out) {
+  bool String(int major, std::uint64_t length, bool indefinite) {
     if (!indefinite) {
       if (length > in_.size() - pos_) return Fail("truncated string");
-      out->assign(in_.substr(pos_, length));
+      const std::string_view content = in_.substr(pos_, length);
       pos_ += length;
-      return Status::Ok();
+      if (major == 3 && !IsValidUtf8(content)) return Fail("text string is not UTF-8");
+      return true;
     }
-    // Chunks: definite-length strings of the same major type, up to a break.
+    // Chunks: definite-length strings of the same major type, up to a break. A text string's
+    // chunks are checked as UTF-8 together, as the reader hands them out.
+    std::string text;
     for (;;) {
       std::uint8_t initial;
       if (!Byte(&initial)) return Fail("truncated");
-      if (initial == kBreak) return Status::Ok();
+      if (initial == kBreak) break;
       if ((initial >> 5) != major) return Fail("bad chunk in indefinite string");
       bool nested = false;
       std::uint64_t chunk = 0;
-      if (Status s = Argument(major, initial & 0x1f, &chunk, &nested); !s.ok()) return s;
+      if (!Argument(major, initial & 0x1f, &chunk, &nested)) return false;
       if (nested) return Fail("nested indefinite string");
       if (chunk > in_.size() - pos_) return Fail("truncated string");
-      out->append(in_.substr(pos_, chunk));
+      if (major == 3) text.append(in_.substr(pos_, chunk));
       pos_ += chunk;
     }
+    if (major == 3 && !IsValidUtf8(text)) return Fail("text string is not UTF-8");
+    return true;
   }
 
-  Status Container(int per_entry, std::uint64_t count, bool indefinite,
-                   std::vector<CborItem>* items, int depth) {
-    // `count` is attacker-controlled: reserve no more than a typical SenML pack needs and
-    // the bytes left could hold (each item takes at least one).
-    constexpr std::uint64_t kMaxReserve = 64;
-    if (!indefinite) {
-      const std::uint64_t left = in_.size() - pos_;
-      items->reserve(static_cast<std::size_t>(
-          per_entry * std::min({count, left, kMaxReserve})));
-    }
+  bool Container(int per_entry, std::uint64_t count, bool indefinite, int depth) {
     for (std::uint64_t i = 0; indefinite || i < count; ++i) {
       if (indefinite) {
         if (pos_ >= in_.size()) return Fail("truncated");
-        if (static_cast<std::uint8_t>(in_[pos_]) == kBreak) { ++pos_; return Status::Ok(); }
+        if (static_cast<std::uint8_t>(in_[pos_]) == kBreak) { ++pos_; return true; }
       }
       for (int k = 0; k < per_entry; ++k) {
         if (pos_ >= in_.size()) return Fail("truncated");
-        items->emplace_back();
-        if (Status s = Item(&items->back(), depth + 1); !s.ok()) return s;
+        if (!Item(depth + 1)) return false;
       }
     }
-    return Status::Ok();
+    return true;
   }
 
-  Status Simple(int info, CborItem* out) {
-    std::uint64_t bits = 0;
+  bool Simple(int info) {
     switch (info) {
-      case 24:
-        if (!Big(1, &bits)) return Fail("truncated");
-        if (bits < 32) return Fail("simple value in two bytes below 32");
-        out->type = CborItem::Type::kSimple;
-        out->value = bits;
-        return Status::Ok();
-      case 25:
-        if (!Big(2, &bits)) return Fail("truncated");
-        out->type = CborItem::Type::kFloat;
-        out->number = HalfToDouble(static_cast<std::uint16_t>(bits));
-        return Status::Ok();
-      case 26: {
-        if (!Big(4, &bits)) return Fail("truncated");
-        const auto word = static_cast<std::uint32_t>(bits);
-        float f;
-        std::memcpy(&f, &word, sizeof f);
-        out->type = CborItem::Type::kFloat;
-        out->number = f;
-        return Status::Ok();
+      case 24: {
+        std::uint8_t value;
+        if (!Byte(&value)) return Fail("truncated");
+        if (value < 32) return Fail("simple value in two bytes below 32");
+        return true;
       }
-      case 27: {
-        if (!Big(8, &bits)) return Fail("truncated");
-        double d;
-        std::memcpy(&d, &bits, sizeof d);
-        out->type = CborItem::Type::kFloat;
-        out->number = d;
-        return Status::Ok();
-      }
+      case 25: return Skip(2) || Fail("truncated");
+      case 26: return Skip(4) || Fail("truncated");
+      case 27: return Skip(8) || Fail("truncated");
       default:
         if (info >= 28) return Fail("reserved additional information");
-        out->type = CborItem::Type::kSimple;
-        out->value = static_cast<std::uint64_t>(info);
-        return Status::Ok();
+        return true;
     }
   }
 
   std::string_view in_;
   std::size_t pos_ = 0;
+  const char* error_ = "";
 };
 
 }  // namespace
 
-std::optional<std::int64_t> CborItem::AsInt64() const {
+Status CheckCbor(std::string_view bytes) {
+  Checker checker(bytes);
+  if (!checker.Item(0)) return Status::InvalidArgument(std::string("CBOR: ") + checker.error());
+  if (!checker.AtEnd()) return Status::InvalidArgument("CBOR: trailing bytes after the item");
+  return Status::Ok();
+}
+
+std::optional<std::int64_t> CborHead::AsInt64() const {
   constexpr auto kMax = static_cast<std::uint64_t>(std::numeric_limits<std::int64_t>::max());
-  if (type == Type::kUnsigned && value <= kMax) return static_cast<std::int64_t>(value);
-  if (type == Type::kNegative && value <= kMax) return -1 - static_cast<std::int64_t>(value);
+  if (type == CborType::kUnsigned && value <= kMax) return static_cast<std::int64_t>(value);
+  if (type == CborType::kNegative && value <= kMax) return -1 - static_cast<std::int64_t>(value);
   return std::nullopt;
 }
 
-double CborItem::AsDouble() const {
+double CborHead::AsDouble() const {
   switch (type) {
-    case Type::kUnsigned: return static_cast<double>(value);
-    case Type::kNegative: return -1.0 - static_cast<double>(value);
-    case Type::kFloat: return number;
+    case CborType::kUnsigned: return static_cast<double>(value);
+    case CborType::kNegative: return -1.0 - static_cast<double>(value);
+    case CborType::kFloat: return number;
     default: return 0;
   }
+}
+
+std::uint64_t CborReader::Big(int count) {
+  std::uint64_t v = 0;
+  for (int i = 0; i < count; ++i) v = (v << 8) | Byte();
+  return v;
+}
+
+std::uint64_t CborReader::Argument(int info) {
+  if (info < 24) return static_cast<std::uint64_t>(info);
+  if (info <= 27) return Big(1 << (info - 24));
+  return 0;  // 31: indefinite length
+}
+
+CborHead CborReader::Read() {
+  CborHead head;
+  const std::uint8_t initial = Byte();
+  const int major = initial >> 5;
+  const int info = initial & 0x1f;
+  if (major == 7) {
+    switch (info) {
+      case 24: head.type = CborType::kSimple; head.value = Byte(); return head;
+      case 25:
+        head.type = CborType::kFloat;
+        head.number = HalfToDouble(static_cast<std::uint16_t>(Big(2)));
+        return head;
+      case 26: {
+        const auto word = static_cast<std::uint32_t>(Big(4));
+        float f;
+        std::memcpy(&f, &word, sizeof f);
+        head.type = CborType::kFloat;
+        head.number = f;
+        return head;
+      }
+      case 27: {
+        const std::uint64_t bits = Big(8);
+        double d;
+        std::memcpy(&d, &bits, sizeof d);
+        head.type = CborType::kFloat;
+        head.number = d;
+        return head;
+      }
+      default:
+        head.type = CborType::kSimple;
+        head.value = static_cast<std::uint64_t>(info);
+        return head;
+    }
+  }
+  static constexpr CborType kTypes[] = {CborType::kUnsigned, CborType::kNegative,
+                                        CborType::kBytes,    CborType::kText,
+                                        CborType::kArray,    CborType::kMap,
+                                        CborType::kTag};
+  head.type = kTypes[major];
+  head.indefinite = info == 31;
+  head.value = Argument(info);
+  if (major != 2 && major != 3) return head;
+  if (!head.indefinite) {
+    const std::size_t length = head.value < in_.size() - pos_ ? head.value : in_.size() - pos_;
+    head.bytes = in_.substr(pos_, length);
+    pos_ += length;
+    return head;
+  }
+  // Rare: a chunked string is joined once and kept, so its view stays valid.
+  std::string& joined = assembled_.emplace_front();
+  for (std::uint8_t chunk_head = Byte(); chunk_head != kBreak && pos_ < in_.size();
+       chunk_head = Byte()) {
+    const std::uint64_t length = Argument(chunk_head & 0x1f);
+    const std::size_t taken = length < in_.size() - pos_ ? length : in_.size() - pos_;
+    joined.append(in_.substr(pos_, taken));
+    pos_ += taken;
+  }
+  head.bytes = joined;
+  return head;
+}
+
+bool CborReader::More(const CborHead& container, std::uint64_t index) {
+  if (!container.indefinite) return index < container.value;
+  if (pos_ >= in_.size()) return false;
+  if (static_cast<std::uint8_t>(in_[pos_]) != kBreak) return true;
+  ++pos_;
+  return false;
+}
+
+void CborReader::SkipContent(const CborHead& head) {
+  if (head.type == CborType::kTag) {
+    Skip();
+    return;
+  }
+  if (!head.IsContainer()) return;
+  const int per_entry = head.type == CborType::kMap ? 2 : 1;
+  for (std::uint64_t i = 0; More(head, i) && pos_ < in_.size(); ++i) {
+    for (int k = 0; k < per_entry; ++k) Skip();
+  }
+}
+
+std::uint64_t CborReader::CountEntries(const CborHead& container) const {
+  if (!container.indefinite) return container.value;
+  CborReader probe(in_);
+  probe.pos_ = pos_;
+  std::uint64_t count = 0;
+  while (probe.More(container, count) && probe.pos_ < in_.size()) {
+    probe.Skip();
+    if (container.type == CborType::kMap) probe.Skip();
+    ++count;
+  }
+  return count;
 }
 
 double HalfToDouble(std::uint16_t half) {
@@ -221,14 +304,6 @@ double HalfToDouble(std::uint16_t half) {
                               : std::numeric_limits<double>::quiet_NaN();
   }
   return (half & 0x8000) ? -magnitude : magnitude;
-}
-
-Result<CborItem> DecodeCbor(std::string_view bytes) {
-  Decoder decoder(bytes);
-  CborItem item;
-  if (Status s = decoder.Item(&item, 0); !s.ok()) return s;
-  if (!decoder.AtEnd()) return Status::InvalidArgument("CBOR: trailing bytes after the item");
-  return item;
 }
 
 }  // namespace ampledger

@@ -22,47 +22,57 @@ Refusal Malformed(std::string detail) {
   return Refuse(RefusalReason::kMalformed, "COSE_Mac0: " + std::move(detail));
 }
 
-// Collected header parameters from both buckets.
+// Collected header parameters from both buckets; views into the message being parsed.
 struct Headers {
   std::optional<std::int64_t> alg;
   bool alg_seen = false;
-  std::optional<std::string> kid;
+  std::optional<std::string_view> kid;
 };
 
-std::optional<Refusal> ReadHeaderMap(const CborItem& map, std::vector<std::string>* seen,
+// A header label, to find one repeated: an integer (its major type and argument) or text.
+struct LabelId {
+  CborType type;
+  std::uint64_t value;
+  std::string_view text;
+  bool operator==(const LabelId&) const = default;
+};
+
+// Reads the header map at `reader`'s position.
+std::optional<Refusal> ReadHeaderMap(CborReader* reader, std::vector<LabelId>* seen,
                                      Headers* headers) {
-  if (map.type != CborItem::Type::kMap) return Malformed("a header bucket is not a map");
-  for (std::size_t i = 0; i + 1 < map.items.size(); i += 2) {
-    const CborItem& key = map.items[i];
-    const CborItem& value = map.items[i + 1];
+  const CborHead map = reader->Read();
+  if (map.type != CborType::kMap) return Malformed("a header bucket is not a map");
+  for (std::uint64_t i = 0; reader->More(map, i); ++i) {
+    const CborHead key = reader->Read();
     // RFC 9052 section 3: labels are int or tstr; one label in only one bucket, once.
-    std::string identity;
+    LabelId identity{key.type, 0, {}};
     if (key.IsInteger()) {
-      identity = (key.type == CborItem::Type::kNegative ? "-" : "+") + std::to_string(key.value);
-    } else if (key.type == CborItem::Type::kText) {
-      identity = "t" + key.bytes;
+      identity.value = key.value;
+    } else if (key.type == CborType::kText) {
+      identity.text = key.bytes;
     } else {
       return Malformed("a header label is neither int nor text");
     }
-    for (const std::string& s : *seen) {
+    for (const LabelId& s : *seen) {
       if (s == identity) return Malformed("header label repeated");
     }
     seen->push_back(identity);
+    const CborHead value = reader->Read();
     const std::optional<std::int64_t> label = key.AsInt64();
-    if (!key.IsInteger() || !label) continue;
-    if (*label == kLabelAlg) {
+    if (key.IsInteger() && label && *label == kLabelAlg) {
       headers->alg_seen = true;
       headers->alg = value.AsInt64();
-      if (!value.IsInteger() && value.type != CborItem::Type::kText) {
+      if (!value.IsInteger() && value.type != CborType::kText) {
         return Malformed("alg is neither int nor text");
       }
-    } else if (*label == kLabelCrit) {
+    } else if (key.IsInteger() && label && *label == kLabelCrit) {
       // We understand no optional header parameter, so any crit list names one we do not.
       return Refuse(RefusalReason::kUnsupported, "COSE_Mac0: crit header present");
-    } else if (*label == kLabelKid) {
-      if (value.type != CborItem::Type::kBytes) return Malformed("kid is not a bstr");
+    } else if (key.IsInteger() && label && *label == kLabelKid) {
+      if (value.type != CborType::kBytes) return Malformed("kid is not a bstr");
       headers->kid = value.bytes;
     }
+    reader->SkipContent(value);
   }
   return std::nullopt;
 }
@@ -143,38 +153,44 @@ std::string MacStructure(std::string_view protected_bytes, std::string_view exte
 }
 
 DecodeResult<CoseMac0> ParseCoseMac0(std::string_view bytes) {
-  Result<CborItem> decoded = DecodeCbor(bytes);
-  if (!decoded.ok()) return Malformed(decoded.status().message());
+  if (Status checked = CheckCbor(bytes); !checked.ok()) return Malformed(checked.message());
+  CborReader reader(bytes);
   CoseMac0 out;
-  const CborItem* array = &decoded.value();
-  if (array->type == CborItem::Type::kTag) {
-    if (array->value != kCoseMac0Tag) {
+  CborHead array = reader.Read();
+  if (array.type == CborType::kTag) {
+    if (array.value != kCoseMac0Tag) {
       return Refuse(RefusalReason::kUnsupported,
-                    "COSE_Mac0: CBOR tag " + std::to_string(array->value) + " (expected 17)");
+                    "COSE_Mac0: CBOR tag " + std::to_string(array.value) + " (expected 17)");
     }
     out.tagged = true;
-    array = &array->items[0];
+    array = reader.Read();
   }
-  if (array->type != CborItem::Type::kArray || array->items.size() != 4) {
+  if (array.type != CborType::kArray || reader.CountEntries(array) != 4) {
     return Malformed("not an array of 4");
   }
-  const CborItem& protected_item = array->items[0];
-  const CborItem& unprotected = array->items[1];
-  const CborItem& payload = array->items[2];
-  const CborItem& tag = array->items[3];
-  if (protected_item.type != CborItem::Type::kBytes) return Malformed("protected is not a bstr");
+  const CborHead protected_item = reader.Read();
+  reader.SkipContent(protected_item);
+  // The unprotected bucket is read after the checks of the items behind it.
+  CborReader unprotected(bytes.substr(reader.position()));
+  reader.Skip();
+  const CborHead payload = reader.Read();
+  reader.SkipContent(payload);
+  const CborHead tag = reader.Read();
+  if (protected_item.type != CborType::kBytes) return Malformed("protected is not a bstr");
   if (payload.IsNull()) return Malformed("detached payload");
-  if (payload.type != CborItem::Type::kBytes || tag.type != CborItem::Type::kBytes) {
+  if (payload.type != CborType::kBytes || tag.type != CborType::kBytes) {
     return Malformed("payload or tag is not a bstr");
   }
-  std::vector<std::string> seen;
-  Headers headers;
+  std::vector<LabelId> seen;
+  Headers headers;  // views into `bytes` and the readers' storage
+  CborReader protected_map(protected_item.bytes);
   if (!protected_item.bytes.empty()) {
-    Result<CborItem> map = DecodeCbor(protected_item.bytes);
-    if (!map.ok()) return Malformed("protected header: " + map.status().message());
-    if (auto refusal = ReadHeaderMap(map.value(), &seen, &headers)) return *refusal;
+    if (Status checked = CheckCbor(protected_item.bytes); !checked.ok()) {
+      return Malformed("protected header: " + checked.message());
+    }
+    if (auto refusal = ReadHeaderMap(&protected_map, &seen, &headers)) return *refusal;
   }
-  if (auto refusal = ReadHeaderMap(unprotected, &seen, &headers)) return *refusal;
+  if (auto refusal = ReadHeaderMap(&unprotected, &seen, &headers)) return *refusal;
   if (!headers.alg_seen) return Malformed("no alg");
   if (!headers.alg || (*headers.alg != 4 && *headers.alg != 5)) {
     return Refuse(RefusalReason::kUnsupported,

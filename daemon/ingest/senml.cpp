@@ -51,49 +51,60 @@ bool IsUnderstoodVersion(double version) {
 }
 
 // A CBOR number: integer, float, or decimal fraction (tag 4, RFC 8949 section 3.4.4), which
-// RFC 8428 section 6 allows for numbers.
-std::optional<Refusal> CborNumber(const CborItem& item, SenmlField* field) {
+// RFC 8428 section 6 allows for numbers. `item` is the head just read from `reader`.
+std::optional<Refusal> CborNumber(const CborHead& item, CborReader* reader, SenmlField* field) {
   field->kind = SenmlField::Kind::kNumber;
   if (item.IsInteger()) {
     field->integer = true;
     field->number = item.AsDouble();
     return std::nullopt;
   }
-  if (item.type == CborItem::Type::kFloat) {
+  if (item.type == CborType::kFloat) {
     field->number = item.number;
     return std::nullopt;
   }
-  if (item.type == CborItem::Type::kTag && item.value == 4) {
-    const CborItem& pair = item.items[0];
-    if (pair.type != CborItem::Type::kArray || pair.items.size() != 2 ||
-        !pair.items[0].IsInteger() || !pair.items[1].IsInteger()) {
+  if (item.type == CborType::kTag && item.value == 4) {
+    const CborHead pair = reader->Read();
+    CborHead parts[2];
+    std::uint64_t count = 0;
+    if (pair.type == CborType::kArray) {
+      for (; reader->More(pair, count); ++count) {
+        const CborHead part = reader->Read();
+        if (count < 2) parts[count] = part;
+        reader->SkipContent(part);
+      }
+    }
+    if (pair.type != CborType::kArray || count != 2 || !parts[0].IsInteger() ||
+        !parts[1].IsInteger()) {
       return Bad("decimal fraction is not [exponent, mantissa]");
     }
-    const double exponent = pair.items[0].AsDouble();
+    const double exponent = parts[0].AsDouble();
     if (std::fabs(exponent) > 400) return Bad("decimal fraction exponent out of range");
-    field->number = pair.items[1].AsDouble() * std::pow(10.0, exponent);
+    field->number = parts[1].AsDouble() * std::pow(10.0, exponent);
     return std::nullopt;
   }
-  if (item.type == CborItem::Type::kTag) {
+  if (item.type == CborType::kTag) {
     return Refuse(RefusalReason::kUnsupported,
                   "CBOR tag " + std::to_string(item.value) + " on a number");
   }
   return Bad("expected a number");
 }
 
-std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlField* field) {
+// Reads the value of `label` from `reader` into `field`.
+std::optional<Refusal> CborField(SenmlLabel label, CborReader* reader, SenmlField* field) {
+  const CborHead item = reader->Read();
   const SenmlField::Kind kind = SenmlLabelKind(label);
   if (kind == SenmlField::Kind::kNumber) {
-    if (auto refusal = CborNumber(item, field)) return refusal;
+    if (auto refusal = CborNumber(item, reader, field)) return refusal;
     // RFC 8428 section 6: "For the version number, only an unsigned integer is allowed."
-    if (label == SenmlLabel::kBaseVersion && item.type != CborItem::Type::kUnsigned) {
+    if (label == SenmlLabel::kBaseVersion && item.type != CborType::kUnsigned) {
       return Bad("bver must be an unsigned integer");
     }
     return std::nullopt;
   }
   field->kind = kind;
-  const bool ok = (kind == SenmlField::Kind::kText && item.type == CborItem::Type::kText) ||
-                  (kind == SenmlField::Kind::kBytes && item.type == CborItem::Type::kBytes) ||
+  const bool ok = (kind == SenmlField::Kind::kText && item.type == CborType::kText) ||
+                  (kind == SenmlField::Kind::kBytes && item.type == CborType::kBytes) ||
                   (kind == SenmlField::Kind::kBool && item.IsBool());
   if (!ok) return Bad(std::string("wrong type for ") + SenmlLabelName(label));
   field->text = item.bytes;
@@ -101,26 +112,27 @@ std::optional<Refusal> CborField(SenmlLabel label, const CborItem& item, SenmlFi
   return std::nullopt;
 }
 
-DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
-  if (map.type != CborItem::Type::kMap) return Bad("a record is not a map");
-  RawSenmlRecord record;
+// Reads the record whose head `map` was just read.
+std::optional<Refusal> CborRecord(const CborHead& map, CborReader* reader,
+                                  RawSenmlRecord* record) {
+  if (map.type != CborType::kMap) return Bad("a record is not a map");
   std::vector<std::string> other_keys;  // labels we do not know, kept to refuse duplicates
   auto first_time = [&other_keys](std::string key) {
     if (std::find(other_keys.begin(), other_keys.end(), key) != other_keys.end()) return false;
     other_keys.push_back(std::move(key));
     return true;
   };
-  for (std::size_t i = 0; i + 1 < map.items.size(); i += 2) {
-    const CborItem& key = map.items[i];
-    const CborItem& value = map.items[i + 1];
-    if (key.type == CborItem::Type::kText) {
+  for (std::uint64_t i = 0; reader->More(map, i); ++i) {
+    const CborHead key = reader->Read();
+    if (key.type == CborType::kText) {
       // RFC 8428 section 6: labels beyond Table 4 are text; unknown ones are ignored unless
       // they end in "_" (section 4.4, must understand).
-      if (!first_time("t" + key.bytes)) return Bad("duplicate label \"" + key.bytes + "\"");
-      if (!key.bytes.empty() && key.bytes.back() == '_') {
-        return Refuse(RefusalReason::kUnsupported,
-                      "must-understand label \"" + key.bytes + "\"");
+      const std::string text(key.bytes);
+      if (!first_time("t" + text)) return Bad("duplicate label \"" + text + "\"");
+      if (!text.empty() && text.back() == '_') {
+        return Refuse(RefusalReason::kUnsupported, "must-understand label \"" + text + "\"");
       }
+      reader->Skip();
       continue;
     }
     const std::optional<std::int64_t> number = key.AsInt64();
@@ -128,14 +140,15 @@ DecodeResult<RawSenmlRecord> CborRecord(const CborItem& map) {
     const std::optional<SenmlLabel> label = SenmlLabelFromCbor(*number);
     if (!label) {  // no further integer labels will be defined; ignore
       if (!first_time("i" + std::to_string(*number))) return Bad("duplicate label");
+      reader->Skip();
       continue;
     }
-    if (record[*label]) return Bad(std::string("duplicate label ") + SenmlLabelName(*label));
+    if ((*record)[*label]) return Bad(std::string("duplicate label ") + SenmlLabelName(*label));
     SenmlField field;
-    if (auto refusal = CborField(*label, value, &field)) return *refusal;
-    record[*label] = std::move(field);
+    if (auto refusal = CborField(*label, reader, &field)) return *refusal;
+    (*record)[*label] = std::move(field);
   }
-  return record;
+  return std::nullopt;
 }
 
 bool HasAnyRegularField(const RawSenmlRecord& r) {
@@ -274,25 +287,25 @@ DecodeResult<SenmlPack> ResolveSenml(const std::vector<RawSenmlRecord>& records,
 }
 
 DecodeResult<SenmlPack> DecodeSenmlCbor(std::string_view bytes, double now_seconds) {
-  Result<CborItem> decoded = DecodeCbor(bytes);
-  if (!decoded.ok()) return Malformed(decoded.status().message());
-  const CborItem* top = &decoded.value();
+  if (Status checked = CheckCbor(bytes); !checked.ok()) return Malformed(checked.message());
+  CborReader reader(bytes);
+  CborHead top = reader.Read();
   // The self-described CBOR tag (RFC 8949 section 3.4.6) only marks the bytes as CBOR.
-  if (top->type == CborItem::Type::kTag && top->value == 55799) top = &top->items[0];
-  if (top->type == CborItem::Type::kTag) {
+  if (top.type == CborType::kTag && top.value == 55799) top = reader.Read();
+  if (top.type == CborType::kTag) {
     return Refuse(RefusalReason::kUnsupported,
-                  "SenML: CBOR tag " + std::to_string(top->value) + " around the pack");
+                  "SenML: CBOR tag " + std::to_string(top.value) + " around the pack");
   }
-  if (top->type != CborItem::Type::kArray) return Malformed("the pack is not an array");
+  if (top.type != CborType::kArray) return Malformed("the pack is not an array");
   std::vector<RawSenmlRecord> raw;
-  raw.reserve(top->items.size());  // bounded: each came from at least one byte of `bytes`
-  for (std::size_t i = 0; i < top->items.size(); ++i) {
-    DecodeResult<RawSenmlRecord> record = CborRecord(top->items[i]);
-    if (!record.ok()) {
-      return Refuse(record.reason(),
-                    "SenML: record " + std::to_string(i + 1) + ": " + record.refusal().detail);
+  // Bounded: each record takes at least one byte of `bytes`.
+  raw.reserve(std::min<std::uint64_t>(reader.CountEntries(top), bytes.size()));
+  for (std::uint64_t i = 0; reader.More(top, i); ++i) {
+    const CborHead map = reader.Read();
+    if (auto refusal = CborRecord(map, &reader, &raw.emplace_back())) {
+      return Refuse(refusal->reason,
+                    "SenML: record " + std::to_string(i + 1) + ": " + refusal->detail);
     }
-    raw.push_back(std::move(record).value());
   }
   return ResolveSenml(raw, now_seconds);
 }

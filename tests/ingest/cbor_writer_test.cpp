@@ -65,9 +65,8 @@ TEST_CASE("every written number reads back exactly") {
     CAPTURE(v);
     CborWriter w;
     w.Number(v);
-    Result<CborItem> item = DecodeCbor(w.bytes());
-    REQUIRE(item.ok());
-    CHECK(item->AsDouble() == v);
+    REQUIRE(CheckCbor(w.bytes()).ok());
+    CHECK(CborReader(w.bytes()).Read().AsDouble() == v);
   }
 }
 
