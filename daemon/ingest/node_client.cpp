@@ -29,20 +29,30 @@ Result<std::unique_ptr<NodeClient>> NodeClient::Open(const std::string& daemon_a
 NodeClient::~NodeClient() { ::close(fd_); }
 
 Status NodeClient::Send(const NodePack& pack, bool lose) {
+  if (Status room = Room(pack.boot, pack.seq); !room.ok()) return room;
+  return SendEncoded(pack.boot, pack.seq, EncodePack(pack, options_.encoding, options_.key), lose);
+}
+
+Status NodeClient::SendEncoded(std::uint32_t boot, std::uint32_t seq, std::string_view bytes,
+                               bool lose) {
+  if (Status room = Room(boot, seq); !room.ok()) return room;
+  Unacked entry{std::string(bytes), std::chrono::steady_clock::now()};
+  Status sent = lose ? Status::Ok() : Transmit(entry.bytes);
+  unacked_[{boot, seq}] = std::move(entry);
+  return sent;
+}
+
+Status NodeClient::Room(std::uint32_t boot, std::uint32_t seq) const {
   if (unacked_.size() >= options_.max_unacked) {
     return Status::Unavailable(std::to_string(unacked_.size()) + " packs wait for an ack");
   }
   if (!unacked_.empty()) {
     const auto& [oldest_boot, oldest_seq] = unacked_.begin()->first;
-    if (oldest_boot == pack.boot && pack.seq - oldest_seq >= options_.max_seq_span) {
+    if (oldest_boot == boot && seq - oldest_seq >= options_.max_seq_span) {
       return Status::Unavailable("seq " + std::to_string(oldest_seq) + " waits for an ack");
     }
   }
-  Unacked entry{EncodePack(pack, options_.encoding, options_.key),
-                std::chrono::steady_clock::now()};
-  Status sent = lose ? Status::Ok() : Transmit(entry.bytes);
-  unacked_[{pack.boot, pack.seq}] = std::move(entry);
-  return sent;
+  return Status::Ok();
 }
 
 Status NodeClient::Transmit(const std::string& bytes) {
@@ -57,7 +67,7 @@ Status NodeClient::Transmit(const std::string& bytes) {
 int NodeClient::PollAcks(int timeout_ms) {
   int released = 0;
   pollfd waiting{fd_, POLLIN, 0};
-  if (::poll(&waiting, 1, timeout_ms) <= 0) return 0;
+  if (timeout_ms != 0 && ::poll(&waiting, 1, timeout_ms) <= 0) return 0;
   char buffer[2048];
   ssize_t length;
   while ((length = ::recv(fd_, buffer, sizeof buffer, MSG_DONTWAIT)) > 0) {

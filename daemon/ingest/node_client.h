@@ -12,6 +12,7 @@
 #include <map>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <utility>
 
 #include "config/status.h"
@@ -46,7 +47,13 @@ class NodeClient {
   // is kept but not sent, as if the network had dropped it (for tests and the demo).
   Status Send(const NodePack& pack, bool lose = false);
 
-  // Reads the acknowledgements that have arrived, waiting up to `timeout_ms` for the first.
+  // As Send(), for a pack that is already encoded: `bytes` must be EncodePack() of pack
+  // (`boot`, `seq`) with this client's encoding and key. For senders that encode ahead.
+  Status SendEncoded(std::uint32_t boot, std::uint32_t seq, std::string_view bytes,
+                     bool lose = false);
+
+  // Reads the acknowledgements that have arrived, waiting up to `timeout_ms` for the first
+  // (0: no wait, and no poll() call).
   // Returns how many packs they released. Acknowledgements that do not verify are ignored.
   int PollAcks(int timeout_ms);
 
@@ -63,6 +70,8 @@ class NodeClient {
   };
   NodeClient(int fd, NodeClientOptions options) : fd_(fd), options_(std::move(options)) {}
   Status Transmit(const std::string& bytes);
+  // OK if a pack (boot, seq) may be sent now (see max_unacked, max_seq_span).
+  Status Room(std::uint32_t boot, std::uint32_t seq) const;
 
   int fd_;
   NodeClientOptions options_;
