@@ -58,17 +58,17 @@ std::optional<Refusal> ReadHeaderMap(CborReader* reader, std::vector<LabelId>* s
     }
     seen->push_back(identity);
     const CborHead value = reader->Read();
-    const std::optional<std::int64_t> label = key.AsInt64();
-    if (key.IsInteger() && label && *label == kLabelAlg) {
+    const std::optional<std::int64_t> label = key.AsInt64();  // unset for text labels
+    if (label == kLabelAlg) {
       headers->alg_seen = true;
       headers->alg = value.AsInt64();
       if (!value.IsInteger() && value.type != CborType::kText) {
         return Malformed("alg is neither int nor text");
       }
-    } else if (key.IsInteger() && label && *label == kLabelCrit) {
+    } else if (label == kLabelCrit) {
       // We understand no optional header parameter, so any crit list names one we do not.
       return Refuse(RefusalReason::kUnsupported, "COSE_Mac0: crit header present");
-    } else if (key.IsInteger() && label && *label == kLabelKid) {
+    } else if (label == kLabelKid) {
       if (value.type != CborType::kBytes) return Malformed("kid is not a bstr");
       headers->kid = value.bytes;
     }
