@@ -157,7 +157,15 @@ int RunEspiExport(const EspiExportOptions& options, std::ostream& out, std::ostr
   Result<std::string> xml = ExportUsageEspi(**db, *series, *config, *zone, subject,
                                             {{*from, *to}, options.interval_s}, WallClockMs());
   if (!xml.ok()) {
-    err << name << xml.status().message() << "\n";
+    // The range checks are the API's; here the bounds are options.
+    std::string message = xml.status().message();
+    for (const char* bound : {"from", "to"}) {
+      const std::string parameter = std::string("query parameter \"") + bound + "\"";
+      if (message.rfind(parameter, 0) == 0) {
+        message = "--" + std::string(bound) + message.substr(parameter.size());
+      }
+    }
+    err << name << message << "\n";
     return xml.status().code() == StatusCode::kInvalidArgument ? 2 : 1;
   }
   if (options.output.empty() || options.output == "-") {

@@ -139,6 +139,11 @@ TEST_SUITE("daemon") {
     Run bad = Ampledger("espi-export " + config + " --unit nobody --from 2012-03-11 --to 2012-03-12");
     CHECK(bad.exit_code == 2);
     CHECK(bad.output == "ampledger espi-export: --unit: no unit \"nobody\" in the config\n");
+    Run off_grid = Ampledger("espi-export " + config +
+                             " --unit home --from 2012-03-11T00:07:00-05:00 --to 2012-03-12");
+    CHECK(off_grid.exit_code == 2);
+    CHECK(off_grid.output.rfind("ampledger espi-export: --from: is not the start of a 15-minute",
+                                0) == 0);
   }
 }
 
