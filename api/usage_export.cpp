@@ -61,12 +61,12 @@ Result<std::string> ExportUsageEspi(const Database& db, const SeriesMap& series,
   feed.title = config.site.name + ": energy of " + point;
   if (!drawn.empty() || exported.empty()) {
     feed.series.push_back(BuildEspiSeries(
-        {point, point + ": energy drawn", kEspiFlowForward, query.interval_s}, zone,
+        {point, point + ": energy drawn", kEspiFlowForward, query.interval_s, query.range}, zone,
         Intervals(*periods, *buckets, drawn)));
   }
   if (!exported.empty()) {
     feed.series.push_back(BuildEspiSeries(
-        {point, point + ": energy exported", kEspiFlowReverse, query.interval_s}, zone,
+        {point, point + ": energy exported", kEspiFlowReverse, query.interval_s, query.range}, zone,
         Intervals(*periods, *buckets, exported)));
   }
   EspiWriteOptions options;

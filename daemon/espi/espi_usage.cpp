@@ -1,6 +1,7 @@
 // daemon/espi/espi_usage.cpp
 #include "daemon/espi/espi_usage.h"
 
+#include <algorithm>
 #include <cmath>
 
 namespace ampledger {
@@ -37,7 +38,11 @@ EspiSeries BuildEspiSeries(const EspiSeriesOptions& options, const LocalTime& zo
       block_day = day;
       Result<TimeRange> local_day = zone.Day(day);
       EspiIntervalBlock& block = series.blocks.emplace_back();
-      const TimeRange span = local_day.ok() ? *local_day : interval.span;
+      TimeRange span = local_day.ok() ? *local_day : interval.span;
+      if (options.range.end_ms > options.range.start_ms) {
+        span.start_ms = std::max(span.start_ms, options.range.start_ms);
+        span.end_ms = std::min(span.end_ms, options.range.end_ms);
+      }
       block.start_s = span.start_ms / kMsPerSecond;
       block.duration_s = span.DurationMs() / kMsPerSecond;
     }

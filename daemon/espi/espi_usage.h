@@ -19,13 +19,14 @@ struct EspiSeriesOptions {
   std::string title;              // the MeterReading's title
   int flow_direction = kEspiFlowForward;
   int interval_s = 900;  // 900 or 3600: every interval's length
+  TimeRange range;        // the export's range: blocks are local days cut to it (none: 0, 0)
 };
 
 // One ESPI series of whole Wh (uom 72, multiplier 0) from `intervals` (sorted, each
 // options.interval_s long; intervals without data are left out, as a gap). Values are the
 // differences of the rounded running total, so each is within 1 Wh of the interval's energy
 // and the series' sum is the rounded total: rounding never adds up over a long export.
-// Blocks are the site's local days (23 or 25 hours on DST days).
+// Blocks are the site's local days (23 or 25 hours on DST days), cut to options.range.
 EspiSeries BuildEspiSeries(const EspiSeriesOptions& options, const LocalTime& zone,
                            const std::vector<MeterInterval>& intervals);
 

@@ -200,6 +200,13 @@ TEST_SUITE("api") {
     CHECK(hourly.series[0].type.interval_length_s == 3600);
     CHECK(Count(hourly.series[0]) == 23);
     CHECK(hourly.series[0].blocks[0].readings[0].value == 400);
+    // Part of a day: the block is the local day cut to the range.
+    EspiFeed morning = GetFeed(
+        "/v1/circuits/oven/usage.xml?from=2012-03-11T06:00:00-04:00&to=2012-03-11T12:00:00-04:00");
+    REQUIRE(morning.series[0].blocks.size() == 1);
+    CHECK(morning.series[0].blocks[0].start_s == 1331460000);  // 10:00Z
+    CHECK(morning.series[0].blocks[0].duration_s == 6 * 3600);
+    CHECK(Count(morning.series[0]) == 24);
     // Re-imported as interval reads, the export gives back the same energy.
     Result<std::vector<MeterInterval>> again = DeliveredIntervals(hourly, "hourly");
     REQUIRE(again.ok());
