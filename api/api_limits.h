@@ -19,6 +19,10 @@ inline constexpr UnixMs kMaxRawRangeMs = 2 * 86400 * kMsPerSecond;
 // is one row per circuit per quarter hour of the range (about 38,000 rows per circuit).
 inline constexpr UnixMs kMaxEnergyRangeMs = 400 * 86400 * kMsPerSecond;
 
+// The longest range one ESPI usage export covers (api/usage_export.h): a year and a month of
+// 15-minute readings is about 38,000 IntervalReadings, some 7 MB of XML.
+inline constexpr UnixMs kMaxUsageExportRangeMs = 400 * 86400 * kMsPerSecond;
+
 // Live values come from readings ending within this long before now; older ones are stale.
 inline constexpr UnixMs kLiveHorizonMs = 3600 * kMsPerSecond;
 

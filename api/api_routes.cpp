@@ -10,6 +10,7 @@
 #include "api/api_limits.h"
 #include "api/energy_route.h"
 #include "api/health.h"
+#include "api/interop_routes.h"
 #include "api/metrics.h"
 #include "api/openapi_document.h"
 #include "api/problem.h"
@@ -399,6 +400,7 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                        [context](const HttpRequest& request, const Database& db,
                                  const Scope&) { return Metrics(context, db, request); }));
   if (context.alerts != nullptr) AddAlertRoutes(server, context);
+  AddInteropRoutes(server, context);
 }
 
 }  // namespace ampledger

@@ -15,6 +15,7 @@
 #include "daemon/ct_plan_command.h"
 #include "daemon/demo.h"
 #include "daemon/demo_simulator.h"
+#include "daemon/espi_command.h"
 #include "daemon/logging.h"
 #include "daemon/meter_read_command.h"
 #include "daemon/metering/tariff_schedule.h"
@@ -283,6 +284,34 @@ int main(int argc, char** argv) {
   statement->add_option("--db", statement_options.db_path,
                         "database to read (default: the config's storage.path)");
 
+  EspiImportOptions espi_import_options;
+  espi_import_options.config_path = kDefaultConfig;
+  auto* espi_import =
+      app.add_subcommand("espi-import", "import the utility's ESPI interval data for the main meter");
+  espi_import->add_option("--config,-c", espi_import_options.config_path, "configuration file")
+      ->capture_default_str();
+  espi_import->add_option("file", espi_import_options.file, "ESPI (Green Button) XML file")
+      ->required();
+  espi_import->add_flag("--replace", espi_import_options.replace,
+                        "take the file's value where a stored interval differs");
+  EspiExportOptions espi_export_options;
+  espi_export_options.config_path = kDefaultConfig;
+  auto* espi_export =
+      app.add_subcommand("espi-export", "a unit's or circuit's interval energy as ESPI XML");
+  espi_export->add_option("--config,-c", espi_export_options.config_path, "configuration file")
+      ->capture_default_str();
+  espi_export->add_option("--unit", espi_export_options.unit, "unit id");
+  espi_export->add_option("--circuit", espi_export_options.circuit, "circuit id");
+  espi_export->add_option("--from", espi_export_options.from, "start: RFC 3339 or YYYY-MM-DD")
+      ->required();
+  espi_export->add_option("--to", espi_export_options.to, "end: RFC 3339 or YYYY-MM-DD")
+      ->required();
+  espi_export->add_option("--interval", espi_export_options.interval_s, "900 or 3600 seconds")
+      ->capture_default_str();
+  espi_export->add_option("--output,-o", espi_export_options.output, "file (default: stdout)");
+  espi_export->add_option("--db", espi_export_options.db_path,
+                          "database to read (default: the config's storage.path)");
+
   CLI11_PARSE(app, argc, argv);
   if (*serve) return Serve(config_path, log_level);
   if (*check) return Check(config_path);
@@ -298,5 +327,7 @@ int main(int argc, char** argv) {
   if (*meter_list) return RunMeterReadList(meter_options, std::cout, std::cerr);
   if (*meter_remove) return RunMeterReadRemove(meter_options, std::cout, std::cerr);
   if (*statement) return RunStatement(statement_options, std::cout, std::cerr);
+  if (*espi_import) return RunEspiImport(espi_import_options, std::cout, std::cerr);
+  if (*espi_export) return RunEspiExport(espi_export_options, std::cout, std::cerr);
   return Demo(demo_options);  // `ampledger demo`, and `ampledger` alone
 }

@@ -14,6 +14,7 @@ packages=(
   build-essential cmake pkg-config git ca-certificates tzdata
   libsqlite3-dev sqlite3 nlohmann-json3-dev libspdlog-dev libcpp-httplib-dev doctest-dev
   libtomlplusplus-dev libhowardhinnant-date-dev libssl-dev libcli11-dev
+  libxml2-dev
 )
 if [ "$action" = test ]; then
   # Tools the test suite drives: clang and xxd for the fuzz target; systemd-analyze for the units;
@@ -24,6 +25,8 @@ if [ "$action" = test ]; then
   packages+=(clang xxd systemd dpkg-dev file fakeroot prometheus openssl)
   # The dashboard's browser test: Debian's chromium, driven by playwright-core from npm.
   packages+=(chromium)
+  # xmllint checks the ESPI (Green Button) exports from outside.
+  packages+=(libxml2-utils)
   # node and npm from Debian unless the machine already has them (e.g. from another source).
   command -v node > /dev/null || packages+=(nodejs)
   command -v npm > /dev/null || packages+=(npm)

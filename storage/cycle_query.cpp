@@ -1,6 +1,7 @@
 // storage/cycle_query.cpp
 #include "storage/cycle_query.h"
 
+#include "storage/main_meter_intervals.h"
 #include "storage/main_meter_store.h"
 #include "storage/queries.h"
 
@@ -25,7 +26,10 @@ Result<CycleStatements> QueryCycleStatements(const Database& db, const SeriesMap
   }
   Result<std::vector<MainMeterRead>> reads = ListMainMeterReads(db);
   if (!reads.ok()) return reads.status();
-  return ComputeCycleStatements(config, schedule, local, *cycle, circuits, *reads, CycleReads{});
+  Result<std::vector<MeterInterval>> intervals = ReadMainMeterIntervals(db, cycle->range);
+  if (!intervals.ok()) return intervals.status();
+  return ComputeCycleStatements(config, schedule, local, *cycle, circuits, *reads, CycleReads{},
+                                *intervals);
 }
 
 }  // namespace ampledger

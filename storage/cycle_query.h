@@ -1,6 +1,6 @@
 // storage/cycle_query.h
 // A billing cycle's site bill and unit statements from what is stored: every circuit's
-// 15-minute buckets in the cycle and the main-meter reads, priced under the tariff schedule
+// 15-minute buckets in the cycle and the main-meter reads and interval reads, priced under the tariff schedule
 // (daemon/metering/cycle_statements.h). What the `statement` command runs, and what an HTTP
 // statement or cost route should run on its reader connection. Same threading as the
 // connection: one thread at a time per Database.

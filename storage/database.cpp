@@ -125,6 +125,21 @@ CREATE TABLE webhook_outbox (
   PRIMARY KEY (hook, event)
 ) WITHOUT ROWID;
 )sql",
+      // 5: reserved for the daily rollups of branch rel3, which take this number when the
+      // branches merge; it changes nothing here.
+      "SELECT 1;",
+      // 6: main (utility) meter interval reads, imported from the utility's interval data
+      // (storage/main_meter_intervals.h). IF NOT EXISTS: safe under a renumbering at merge.
+      R"sql(
+CREATE TABLE IF NOT EXISTS main_meter_interval (
+  start_ms INTEGER PRIMARY KEY,     -- the interval's start, ms since 1970 UTC
+  end_ms INTEGER NOT NULL,          -- its end (exclusive)
+  wh REAL NOT NULL,                 -- energy delivered to the site over it
+  source TEXT NOT NULL,             -- the file it came from
+  added_ms INTEGER NOT NULL,        -- when it was stored
+  CHECK (end_ms > start_ms)
+);
+)sql",
   };
   return kMigrations;
 }

@@ -16,6 +16,7 @@
 //   alert(rule, subject, state, ...)   alert rule state per subject (storage/alert_recorder.h)
 //   alert_event(id, ...)               append-only alert events, increasing ids
 //   webhook_outbox(hook, event, ...)   events still to be posted to each webhook
+//   main_meter_interval(start_ms, ...) main meter interval reads (storage/main_meter_intervals.h)
 #pragma once
 
 #include <sqlite3.h>
@@ -32,7 +33,7 @@ namespace ampledger {
 
 // The schema version this build writes (PRAGMA user_version). Migration N takes a database
 // from version N-1 to N.
-constexpr int kSchemaVersion = 4;
+constexpr int kSchemaVersion = 6;
 
 class Database {
  public:

@@ -89,14 +89,16 @@ Result<CycleStatements> ComputeCycleStatements(const Config& config,
                                                const LocalTime& local, const BillingCycle& cycle,
                                                const std::vector<CircuitSeries>& circuits,
                                                const std::vector<MainMeterRead>& meter_reads,
-                                               const CycleReads& carried) {
+                                               const CycleReads& carried,
+                                               const std::vector<MeterInterval>& meter_intervals) {
   if (schedule.empty()) {
     return Status::InvalidArgument("the site has no tariff (site.tariff in the config)");
   }
   Result<std::vector<CyclePart>> parts = schedule.Split(local, cycle);
   if (!parts.ok()) return parts.status();
-  // The main meter's energy is used only when the reads cover the whole cycle.
-  Result<MeterEnergy> whole_meter = MainMeterEnergy(meter_reads, cycle.range);
+  // The main meter's energy is used only when its reads cover the whole cycle.
+  Result<MeterEnergy> whole_meter =
+      MainMeterEnergyFromAll(meter_intervals, meter_reads, cycle.range);
   CycleReads reads = carried;
   reads.main_meter_kwh.reset();
   if (whole_meter.ok()) reads.main_meter_kwh = whole_meter->kwh;
@@ -122,7 +124,10 @@ Result<CycleStatements> ComputeCycleStatements(const Config& config,
   for (const CyclePart& part : *parts) {
     CycleReads part_reads = reads;
     if (whole_meter.ok()) {
-      Result<MeterEnergy> meter = MainMeterEnergy(meter_reads, part.span.range);
+      // From the source the whole cycle's energy came from, so the parts add up to it.
+      Result<MeterEnergy> meter = whole_meter->basis == kIntervalBasis
+                                      ? MeterIntervalEnergy(meter_intervals, part.span.range)
+                                      : MainMeterEnergy(meter_reads, part.span.range);
       if (!meter.ok()) return meter.status();  // covered as a whole, so covered in parts
       part_reads.main_meter_kwh = meter->kwh;
     }

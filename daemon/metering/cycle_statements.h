@@ -17,20 +17,23 @@
 
 #include "config/config.h"
 #include "daemon/metering/main_meter.h"
+#include "daemon/metering/meter_interval.h"
 #include "daemon/metering/statement.h"
 #include "daemon/metering/tariff_schedule.h"
 
 namespace ampledger {
 
 // `carried` gives the previous billing demands, banked kWh and carried credit (its
-// main_meter_kwh is ignored: the main meter's energy comes from `meter_reads`, when they cover
-// the cycle; otherwise the remainder is not billed and main_meter_basis says why).
+// main_meter_kwh is ignored: the main meter's energy comes from `meter_intervals` when they
+// cover the cycle (or a part of it), else from `meter_reads` (MainMeterEnergyFromAll); when
+// neither covers it the remainder is not billed and main_meter_basis says why).
 // InvalidArgument when the schedule is empty, or as ComputeStatements.
 Result<CycleStatements> ComputeCycleStatements(const Config& config,
                                                const TariffSchedule& schedule,
                                                const LocalTime& local, const BillingCycle& cycle,
                                                const std::vector<CircuitSeries>& circuits,
                                                const std::vector<MainMeterRead>& meter_reads,
-                                               const CycleReads& carried);
+                                               const CycleReads& carried,
+                                               const std::vector<MeterInterval>& meter_intervals = {});
 
 }  // namespace ampledger

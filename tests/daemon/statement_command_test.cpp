@@ -11,6 +11,8 @@
 #include <string>
 
 #include "config/config.h"
+#include "daemon/espi/espi_usage.h"
+#include "daemon/espi/espi_writer.h"
 #include "daemon/metering/reading.h"
 #include "storage/database.h"
 #include "storage/series.h"
@@ -249,6 +251,39 @@ TEST_SUITE("daemon") {
     CHECK(Contains(all.output, "Flat B (b)"));
     Run all_json = Ampledger(base + " --format json", false);
     CHECK(nlohmann::json::parse(all_json.output).size() == 2);
+  }
+
+  TEST_CASE("statement: the main meter's imported interval reads come before typed-in reads") {
+    Site site;
+    Result<Config> config = LoadConfig(site.config_path);
+    REQUIRE_MESSAGE(config.ok(), config.status().ToString());
+    FillMarch(*config);
+    REQUIRE(Ampledger("meter-read add" + site.Config() +
+                      " --register 10000 --at 2026-03-01T00:00:00Z").exit_code == 0);
+    REQUIRE(Ampledger("meter-read add" + site.Config() +
+                      " --register 11250 --at 2026-04-01T00:00:00Z").exit_code == 0);
+    // The utility's hourly file for March 2026 (744 h of 1,700 Wh: 1264.8 kWh), written with
+    // the ESPI writer and imported as a person would.
+    Result<LocalTime> utc = LocalTime::ForZone("UTC");
+    REQUIRE(utc.ok());
+    std::vector<MeterInterval> hours;
+    const UnixMs march = 1'772'323'200'000;  // 2026-03-01T00:00:00Z
+    for (int h = 0; h < 744; ++h) {
+      hours.push_back({{march + h * 3'600'000LL, march + (h + 1) * 3'600'000LL}, 1700});
+    }
+    EspiFeed feed{"utility", {BuildEspiSeries({"meter", "hourly", kEspiFlowForward, 3600}, *utc,
+                                              hours)}};
+    WriteFile(site.dir.path() / "march.xml", WriteEspiFeed(feed, EspiWriteOptions{}));
+    REQUIRE(Ampledger("espi-import" + site.Config() + " " + site.dir.File("march.xml")).exit_code ==
+            0);
+    // Submeters 1190.4 kWh (as above); remainder 1264.8 - 1190.4 = 74.4 kWh.
+    Run json = Ampledger("statement" + site.Config() + " --cycle 2026-03 --unit a --format json",
+                         false);
+    REQUIRE(json.exit_code == 0);
+    const nlohmann::json meter = nlohmann::json::parse(json.output)["main_meter"];
+    CHECK(meter["kwh"].get<double>() == doctest::Approx(1264.8));
+    CHECK(meter["basis"] == "main meter interval reads");
+    CHECK(meter["remainder_kwh"].get<double>() == doctest::Approx(74.4));
   }
 
   TEST_CASE("statement: bad options and missing pieces are clear errors") {

@@ -230,6 +230,31 @@ TEST_SUITE("metering") {
           "covering the whole span");
   }
 
+  TEST_CASE("interval reads covering the cycle come before a typed-in period read") {
+    LocalTime zone = Zone("UTC");
+    Config config = Site(false);
+    BillingCycle cycle = Cycle(zone, 1, 2026_y / 6);
+    // 720 hourly intervals of 1,120 Wh: 806.4 kWh; the submeters 720 kWh; remainder 86.4 kWh.
+    std::vector<MeterInterval> intervals;
+    for (UnixMs t = cycle.range.start_ms; t < cycle.range.end_ms; t += 3'600'000) {
+      intervals.push_back({{t, t + 3'600'000}, 1120});
+    }
+    std::vector<MainMeterRead> reads = {
+        {1, MeterReadKind::kPeriod, Utc(2026_y / 7 / 1), Utc(2026_y / 6 / 1), 900, "bill"}};
+    Result<CycleStatements> out = ComputeCycleStatements(
+        config, Schedule(config), zone, cycle, OneKilowatt(cycle), reads, {}, intervals);
+    REQUIRE_MESSAGE(out.ok(), out.status().ToString());
+    CHECK(*out->main_meter_kwh == doctest::Approx(806.4));
+    CHECK(out->remainder_kwh == doctest::Approx(86.4));
+    CHECK(out->main_meter_basis == "main meter interval reads");
+    intervals.pop_back();  // the last hour missing: the period read answers instead
+    out = ComputeCycleStatements(config, Schedule(config), zone, cycle, OneKilowatt(cycle), reads,
+                                 {}, intervals);
+    REQUIRE(out.ok());
+    CHECK(*out->main_meter_kwh == doctest::Approx(900));
+    CHECK(out->main_meter_basis == "main meter period reads");
+  }
+
   TEST_CASE("a straddling cycle with main-meter reads: each part's meter energy") {
     LocalTime zone = Zone("UTC");
     Config config = Site(true);
