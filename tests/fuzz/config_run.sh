@@ -3,8 +3,9 @@
 # Builds the config and tariff loader fuzzer (tests/fuzz/config_fuzz.cpp) with clang++
 # (libFuzzer, AddressSanitizer, UBSan), linked with Debian's compiled toml++ as the daemon is,
 # seeds it with every TOML file of the repo and the TOML texts of the config tests, and runs it
-# for `seconds` (default 60). Not part of the CMake build or of ctest yet; exits 77 (skipped)
-# without clang++. The binary is rebuilt only when a source is newer than it.
+# for `seconds` (default 60). Not part of the CMake build; ctest runs it for 30 s as the entry
+# fuzz-config (exit 77, skipped, without clang++). The binary is rebuilt only when a source is
+# newer than it.
 # Needs: clang, libtomlplusplus-dev, libhowardhinnant-date-dev (libdate-tz).
 # Output: build-fuzz/ under the repo root (binary, config-corpus, crash-* files).
 set -eu
