@@ -169,6 +169,11 @@ class Validator {
         s = CheckNames(alert.nodes, path + ".nodes", "node",
                        [&](const std::string& id) { return config_.FindNode(id); });
       }
+      if (s.ok() && alert.budget_cost > 0 && config_.site.tariff.empty()) {
+        s = lines_.Error(path + ".budget_cost",
+                         "needs site.tariff, whose prices cost the energy; set site.tariff or "
+                         "use budget_kwh");
+      }
       if (!s.ok()) return s;
     }
     return Status::Ok();

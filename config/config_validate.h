@@ -2,7 +2,8 @@
 // ValidateConfigReferences checks what spans sections of a config file once every section has
 // been read: ids are unique, every "node/channel", circuit, unit and node named anywhere
 // exists, a channel feeds one circuit, a circuit belongs to at most one unit or is shared
-// once. Internal to config/; called by LoadConfig/ParseConfig. Any thread.
+// once, a cost budget has a site tariff. Internal to config/; called by LoadConfig/ParseConfig.
+// Any thread.
 #pragma once
 
 #include "config/config.h"

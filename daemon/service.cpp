@@ -95,6 +95,7 @@ class ServiceImpl {
 
     // Alert rules run inside the writer's transactions (storage/alert_recorder.h says why).
     AlertRecorderOptions alert_options;
+    alert_options.tariffs = &tariffs_;  // cost budgets and cycle costs
     for (const WebhookConfig& webhook : config_.webhooks) {
       alert_options.webhooks.push_back(webhook.id);
     }

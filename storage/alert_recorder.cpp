@@ -46,7 +46,7 @@ void BindOrNull(Statement& statement, int index, std::int64_t value) {
 Result<std::unique_ptr<AlertRecorder>> AlertRecorder::Create(const Config& config,
                                                              const Database& db,
                                                              AlertRecorderOptions options) {
-  Result<AlertEvaluator> evaluator = AlertEvaluator::Create(config);
+  Result<AlertEvaluator> evaluator = AlertEvaluator::Create(config, options.tariffs);
   if (!evaluator.ok()) return evaluator.status();
   if (!options.clock) options.clock = [] { return UnixMs{WallClockMs()}; };
   std::unique_ptr<AlertRecorder> recorder(
@@ -108,7 +108,7 @@ Status AlertRecorder::Reload(const Database& db) {
   // The failed transaction's transitions were evaluated but never stored: start again from
   // the stored states, as at start-up; the readings it held come again with the nodes'
   // resends and are evaluated then.
-  Result<AlertEvaluator> evaluator = AlertEvaluator::Create(config_);
+  Result<AlertEvaluator> evaluator = AlertEvaluator::Create(config_, options_.tariffs);
   if (!evaluator.ok()) return evaluator.status();
   evaluator_ = std::move(evaluator).value();
   rows_.assign(evaluator_.slots().size(), Row{});

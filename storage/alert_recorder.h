@@ -47,6 +47,9 @@ struct AlertRecorderOptions {
   // Wall clock for the timer thread, ms since 1970; the writer's own clock (WriterOptions)
   // stamps the transactions. Tests substitute both.
   std::function<UnixMs()> clock;
+  // The site's tariffs, for cost budgets and cycle costs (AlertEvaluator::Create); nullptr:
+  // none. Must outlive the recorder.
+  const TariffSchedule* tariffs = nullptr;
 };
 
 class AlertRecorder : public CommitHook {

@@ -13,14 +13,24 @@ double ReadingWh(const ChannelReading& reading) {
   return reading.real_watts * reading.duration_ms / (3600.0 * kMsPerSecond);
 }
 
+// Whether a rule uses the cost of its samples.
+bool UsesCost(const AlertRuleConfig& rule) {
+  return rule.kind == AlertKind::kCycleDone ||
+         (rule.kind == AlertKind::kBudget && rule.budget_cost > 0);
+}
+
 }  // namespace
 
-Result<AlertEvaluator> AlertEvaluator::Create(const Config& config) {
+Result<AlertEvaluator> AlertEvaluator::Create(const Config& config,
+                                             const TariffSchedule* tariffs) {
   Result<LocalTime> local = LocalTime::ForZone(config.site.time_zone);
   if (!local.ok()) return local.status();
+  const bool priced = tariffs != nullptr && !tariffs->empty();
   AlertSite site{*local, config.site.billing_cycle_day,
-                 static_cast<UnixMs>(config.site.max_gap_seconds * kMsPerSecond)};
+                 static_cast<UnixMs>(config.site.max_gap_seconds * kMsPerSecond), priced};
   AlertEvaluator evaluator(config);
+  if (priced) evaluator.pricer_.emplace(*tariffs, *local);
+  evaluator.circuit_priced_.assign(config.circuits.size(), false);
   for (size_t r = 0; r < config.alerts.size(); ++r) {
     const AlertRuleConfig& rule_config = config.alerts[r];
     Result<AlertRule> rule = AlertRule::Create(rule_config, site);
@@ -46,6 +56,19 @@ Result<AlertEvaluator> AlertEvaluator::Create(const Config& config) {
     for (const std::string& id : config.units[u].circuits) {
       int circuit = config.FindCircuitIndex(id);
       if (circuit >= 0) evaluator.unit_of_circuit_[circuit] = static_cast<int>(u);
+    }
+  }
+  auto price_circuit = [&](const std::string& id) {
+    const int circuit = config.FindCircuitIndex(id);
+    if (circuit >= 0) evaluator.circuit_priced_[circuit] = true;
+  };
+  for (const AlertRuleConfig& rule_config : config.alerts) {
+    if (!priced || !UsesCost(rule_config)) continue;
+    for (const std::string& id : rule_config.circuits) price_circuit(id);
+    for (const std::string& id : rule_config.units) {
+      const UnitConfig* unit = config.FindUnit(id);
+      if (unit == nullptr) continue;
+      for (const std::string& circuit : unit->circuits) price_circuit(circuit);
     }
   }
   evaluator.channel_watts_.assign(config.ChannelCount(), 0);
@@ -130,6 +153,10 @@ void AlertEvaluator::OnReadings(const std::vector<ChannelReading>& readings, Uni
       sample.end_ms = end_ms;
       sample.duration_ms = std::max(sample.duration_ms, reading.duration_ms);
       sample.energy_wh += ReadingWh(reading);
+      if (circuit_priced_[circuit]) {
+        sample.cost += pricer_->Cost(reading.end_ms - reading.duration_ms, reading.end_ms,
+                                     ReadingWh(reading));
+      }
     }
     begin = next;
     std::map<int, PowerSample> units;
@@ -144,6 +171,7 @@ void AlertEvaluator::OnReadings(const std::vector<ChannelReading>& readings, Uni
       unit_sample.end_ms = end_ms;
       unit_sample.duration_ms = std::max(unit_sample.duration_ms, sample.duration_ms);
       unit_sample.energy_wh += sample.energy_wh;
+      unit_sample.cost += sample.cost;
     }
     for (const auto& [circuit, sample] : circuits) {
       Feed("circuit:" + config_->circuits[circuit].id, sample, out);

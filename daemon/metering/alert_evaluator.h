@@ -9,6 +9,8 @@
 // sum of its own circuits' newest power (shared circuits are not part of any unit). A sample is
 // made for each circuit at each reading end time in a batch, and for its unit at the same
 // time. Energy for budgets is each stored reading's mean power x duration, counted once.
+// With a tariff schedule, each reading's energy is also priced (daemon/metering/energy_pricer.h)
+// for the subjects of cost budgets and cycle_done rules; a unit's cost is its circuits' sum.
 #pragma once
 
 #include <cstdint>
@@ -21,7 +23,9 @@
 #include "config/status.h"
 #include "daemon/metering/alert_rule.h"
 #include "daemon/metering/alert_state.h"
+#include "daemon/metering/energy_pricer.h"
 #include "daemon/metering/reading.h"
+#include "daemon/metering/tariff_schedule.h"
 
 namespace ampledger {
 
@@ -43,9 +47,12 @@ struct AlertSlot {
 class AlertEvaluator {
  public:
   // Every rule of `config` for every subject it names (node_silent with no nodes: every
-  // node). `config` must outlive this. Errors: a rule AlertRule::Create refuses, or the site's
-  // time zone is not in the tz database.
-  static Result<AlertEvaluator> Create(const Config& config);
+  // node). `tariffs` is the site's schedule (TariffSchedule::Create(config)); nullptr or empty
+  // when the site has no tariff. `config` and `*tariffs` must outlive this. Errors: a rule
+  // AlertRule::Create refuses (a cost budget without a tariff), or the site's time zone is
+  // not in the tz database.
+  static Result<AlertEvaluator> Create(const Config& config,
+                                       const TariffSchedule* tariffs = nullptr);
 
   const std::vector<AlertSlot>& slots() const { return slots_; }
   const AlertRule& rule(int index) const { return rules_[index]; }
@@ -80,6 +87,8 @@ class AlertEvaluator {
               std::vector<AlertOutcome>* out);
 
   const Config* config_;
+  std::optional<EnergyPricer> pricer_;  // when the site has a tariff
+  std::vector<bool> circuit_priced_;    // by circuit index: its readings' cost is wanted
   std::vector<AlertRule> rules_;
   std::vector<AlertSlot> slots_;
   std::vector<bool> changed_;

@@ -21,6 +21,9 @@ std::int64_t DaysSinceEpoch(date::year_month_day day) {
   return date::sys_days{day}.time_since_epoch().count();
 }
 
+// An amount of money in whole micro-units, for comparing a cost with its budget.
+std::int64_t WholeMicros(double amount) { return std::llround(amount * 1e6); }
+
 }  // namespace
 
 const char* AlertEventKindName(AlertEventKind kind) {
@@ -53,11 +56,9 @@ std::optional<double> AlertTransition::Value(const std::string& name) const {
 }
 
 Result<AlertRule> AlertRule::Create(const AlertRuleConfig& config, const AlertSite& site) {
-  if (config.kind == AlertKind::kBudget && config.budget_cost > 0) {
-    return Status::InvalidArgument(
-        "alert \"" + config.id +
-        "\": budget_cost needs the site tariff, which alert rules cannot read yet; "
-        "use budget_kwh");
+  if (config.kind == AlertKind::kBudget && config.budget_cost > 0 && !site.priced) {
+    return Status::InvalidArgument("alert \"" + config.id +
+                                   "\": budget_cost needs a site tariff to price energy");
   }
   return AlertRule(config, site);
 }
@@ -152,40 +153,48 @@ void AlertRule::OnCycleSample(const PowerSample& sample, AlertState* state,
         state->phase = AlertPhase::kRunning;
         state->since_ms = sample.start_ms();
         state->energy_wh = sample.energy_wh;
+        state->cost = sample.cost;
         state->extreme_w = w;
       }
       return;
     case AlertPhase::kRunning:
       if (w >= config_.clear_watts) {
         state->energy_wh += sample.energy_wh;
+        state->cost += sample.cost;
         state->extreme_w = std::max(state->extreme_w, w);
         return;
       }
       state->phase = AlertPhase::kQuieting;
       state->quiet_since_ms = sample.start_ms();
       state->tail_wh = sample.energy_wh;
+      state->tail_cost = sample.cost;
       break;
     case AlertPhase::kQuieting:
       if (w >= config_.clear_watts) {
         // A dip shorter than quiet_seconds (a pause between drum turns) does not end the run.
         state->phase = AlertPhase::kRunning;
         state->energy_wh += state->tail_wh + sample.energy_wh;
+        state->cost += state->tail_cost + sample.cost;
         state->tail_wh = 0;
+        state->tail_cost = 0;
         state->extreme_w = std::max(state->extreme_w, w);
         return;
       }
       state->tail_wh += sample.energy_wh;
+      state->tail_cost += sample.cost;
       break;
   }
   if (sample.end_ms - state->quiet_since_ms < quiet_ms_) return;
   const UnixMs run_ms = state->quiet_since_ms - state->since_ms;
   if (run_ms >= min_run_ms_) {
-    out->push_back({AlertEventKind::kCycleFinished, sample.end_ms, "quiet after a run",
-                    {{"start", AsValue(state->since_ms)},
-                     {"end", AsValue(state->quiet_since_ms)},
-                     {"duration_s", Seconds(run_ms)},
-                     {"energy_wh", state->energy_wh},
-                     {"peak_watts", state->extreme_w}}});
+    AlertTransition finished{AlertEventKind::kCycleFinished, sample.end_ms, "quiet after a run",
+                             {{"start", AsValue(state->since_ms)},
+                              {"end", AsValue(state->quiet_since_ms)},
+                              {"duration_s", Seconds(run_ms)},
+                              {"energy_wh", state->energy_wh},
+                              {"peak_watts", state->extreme_w}}};
+    if (site_.priced) finished.values.push_back({"cost", state->cost});
+    out->push_back(std::move(finished));
   }
   *state = AlertState{};
 }
@@ -304,27 +313,40 @@ void AlertRule::OnBudgetSample(const PowerSample& sample, AlertState* state,
     state->since_ms = period->start_ms;
   }
   state->energy_wh += sample.energy_wh;
+  state->cost += sample.cost;
   state->last_ms = std::max(state->last_ms, sample.end_ms);
-  const double used_kwh = state->energy_wh / 1000;
   const double elapsed = static_cast<double>(state->last_ms - period->start_ms);
   const double length = static_cast<double>(period->DurationMs());
-  const double projected_kwh = elapsed > 0 ? used_kwh * length / elapsed : 0;
+  const bool by_cost = config_.budget_cost > 0;
+  const double used = by_cost ? state->cost : state->energy_wh / 1000;
+  const double budget = by_cost ? config_.budget_cost : config_.budget_kwh;
+  const double projected = elapsed > 0 ? used * length / elapsed : 0;
+  // Energy is compared as it is; money to the micro-unit (alert_rule.h says why).
+  auto over = [by_cost](double amount, double limit) {
+    return by_cost ? WholeMicros(amount) > WholeMicros(limit) : amount > limit;
+  };
   int stage = 0;
-  if (used_kwh > config_.budget_kwh) {
+  if (over(used, budget)) {
     stage = 2;
-  } else if (elapsed >= kBudgetProjectionFromFraction * length &&
-             projected_kwh > config_.budget_kwh) {
+  } else if (elapsed >= kBudgetProjectionFromFraction * length && over(projected, budget)) {
     stage = 1;
   }
   if (stage <= state->stage) return;  // within a period a budget only gets worse
+  std::vector<AlertValue> values;
+  if (by_cost) {
+    values = {{"used_cost", used},
+              {"budget_cost", budget},
+              {"projected_cost", projected},
+              {"used_kwh", state->energy_wh / 1000}};
+  } else {
+    values = {{"used_kwh", used}, {"budget_kwh", budget}, {"projected_kwh", projected}};
+  }
+  values.push_back({"period_start", AsValue(period->start_ms)});
+  values.push_back({"period_end", AsValue(period->end_ms)});
   out->push_back({state->phase == AlertPhase::kRaised ? AlertEventKind::kChanged
                                                       : AlertEventKind::kRaised,
                   sample.end_ms, stage == 2 ? "budget exceeded" : "on course to exceed",
-                  {{"used_kwh", used_kwh},
-                   {"budget_kwh", config_.budget_kwh},
-                   {"projected_kwh", projected_kwh},
-                   {"period_start", AsValue(period->start_ms)},
-                   {"period_end", AsValue(period->end_ms)}}});
+                  std::move(values)});
   state->phase = AlertPhase::kRaised;
   state->stage = stage;
 }
@@ -368,10 +390,18 @@ void AlertRule::OnTick(UnixMs now, AlertState* state, std::vector<AlertTransitio
                      {"missed_intervals", static_cast<double>(config_.missed_intervals)}}});
     return;
   }
-  out->push_back({AlertEventKind::kCleared, *deadline, "budget period ended",
-                  {{"used_kwh", state->energy_wh / 1000},
-                   {"budget_kwh", config_.budget_kwh},
-                   {"period_end", AsValue(*deadline)}}});
+  if (config_.budget_cost > 0) {
+    out->push_back({AlertEventKind::kCleared, *deadline, "budget period ended",
+                    {{"used_cost", state->cost},
+                     {"budget_cost", config_.budget_cost},
+                     {"used_kwh", state->energy_wh / 1000},
+                     {"period_end", AsValue(*deadline)}}});
+  } else {
+    out->push_back({AlertEventKind::kCleared, *deadline, "budget period ended",
+                    {{"used_kwh", state->energy_wh / 1000},
+                     {"budget_kwh", config_.budget_kwh},
+                     {"period_end", AsValue(*deadline)}}});
+  }
   // Counting starts again with the next period; late energy of the ended one is not counted.
   *state = AlertState{};
   state->since_ms = *deadline;

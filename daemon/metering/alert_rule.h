@@ -27,9 +27,13 @@
 //   raised --heard--> calm (back)
 // standby_creep: each night's minimum in the local window 01:00-05:00; raised after `nights`
 //   nights in a row above the level, cleared by a night at or below it.
-// budget (energy): raised when the period's energy is on course to exceed the budget (linear
-//   projection, once a tenth of the period has passed), changed when it is exceeded, cleared
-//   when the period ends.
+// budget (energy or cost): raised when the period's energy (budget_kwh) or cost (budget_cost)
+//   is on course to exceed the budget (linear projection, once a tenth of the period has
+//   passed), changed when it is exceeded, cleared when the period ends. Cost is the samples'
+//   `cost`: the time-of-use energy charge, see PowerSample. Costs are compared with the
+//   budget in whole micro-units (millionths of the currency unit, as daemon/metering/money.h),
+//   so rounding noise in summing thousands of readings cannot tip a budget that is exactly
+//   met: spent exactly the budget is not over it.
 #pragma once
 
 #include <cstdint>
@@ -50,6 +54,9 @@ struct AlertSite {
   LocalTime local;               // the site's zone: windows, nights and budget periods
   int billing_cycle_day = 1;     // budget_period = "cycle"
   UnixMs max_gap_ms = 300'000;   // a longer gap between samples breaks a hold
+  // The samples carry their cost (the site has a tariff): cost budgets may be used, and
+  // cycle_finished events give the run's cost.
+  bool priced = false;
 };
 
 // One subject's mean power over [end_ms - duration_ms, end_ms), and the energy that the
@@ -59,6 +66,9 @@ struct PowerSample {
   std::int32_t duration_ms = 0;
   double watts = 0;
   double energy_wh = 0;
+  // What `energy_wh` costs in the site's currency when AlertSite::priced: its time-of-use
+  // energy charge under the tariff in force (daemon/metering/energy_pricer.h); else 0.
+  double cost = 0;
   UnixMs start_ms() const { return end_ms - duration_ms; }
 };
 
@@ -106,8 +116,8 @@ inline constexpr double kBudgetProjectionFromFraction = 0.1;
 
 class AlertRule {
  public:
-  // `config` as LoadConfig validated it. InvalidArgument for what this build cannot evaluate:
-  // a cost budget (budget_cost) needs the site tariff, which the alert rules cannot read yet.
+  // `config` as LoadConfig validated it. InvalidArgument for a cost budget (budget_cost) on a
+  // site whose samples are not priced (no tariff).
   static Result<AlertRule> Create(const AlertRuleConfig& config, const AlertSite& site);
 
   const AlertRuleConfig& config() const { return config_; }

@@ -47,25 +47,35 @@ std::string AlertState::Serialize() const {
   Append(&out, "stage", stage);
   Append(&out, "night", night);
   Append(&out, "samples", samples);
+  Append(&out, "cost", cost);
+  Append(&out, "tailcost", tail_cost);
   return out;
 }
 
 Result<AlertState> AlertState::Parse(std::string_view text) {
   AlertState state;
-  // Every field once, in Serialize()'s order: anything else was not written by us.
-  const std::vector<std::string_view> names = {"phase", "since", "quiet", "last",
+  // Every field once, in Serialize()'s order: anything else was not written by us. The last
+  // `kOptional` fields came later; a text that ends before them is an older state.
+  const std::vector<std::string_view> names = {"phase", "since", "quiet",   "last",
                                                "wh",    "tail",  "extreme", "interval",
-                                               "count", "stage", "night", "samples"};
+                                               "count", "stage", "night",   "samples",
+                                               "cost",  "tailcost"};
+  constexpr std::size_t kOptional = 2;
   std::size_t position = 0;
-  for (std::string_view name : names) {
+  for (std::size_t n = 0; n < names.size(); ++n) {
+    const std::string_view name = names[n];
+    const bool optional = n >= names.size() - kOptional;
+    const bool after_separator = position > 0 && text[position - 1] == ' ';
+    if (optional && position == text.size() && !after_separator) break;
     std::size_t end = text.find(' ', position);
     std::string_view field = text.substr(position, end == std::string_view::npos
                                                        ? std::string_view::npos
                                                        : end - position);
-    position = end == std::string_view::npos ? text.size() : end + 1;
     const std::size_t equals = field.find('=');
     std::string_view value = equals == std::string_view::npos ? "" : field.substr(equals + 1);
     bool ok = equals != std::string_view::npos && field.substr(0, equals) == name;
+    if (!ok && optional && !field.empty()) break;  // reported as unexpected text below
+    position = end == std::string_view::npos ? text.size() : end + 1;
     if (ok && name == "phase") {
       ok = false;
       for (std::size_t i = 0; i < kPhaseNames.size(); ++i) {
@@ -86,6 +96,8 @@ Result<AlertState> AlertState::Parse(std::string_view text) {
       if (name == "stage") ok = ReadNumber(value, &state.stage);
       if (name == "night") ok = ReadNumber(value, &state.night);
       if (name == "samples") ok = ReadNumber(value, &state.samples);
+      if (name == "cost") ok = ReadNumber(value, &state.cost);
+      if (name == "tailcost") ok = ReadNumber(value, &state.tail_cost);
     }
     if (!ok) {
       return Status::Corruption("alert state: field \"" + std::string(name) +

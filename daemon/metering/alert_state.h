@@ -3,7 +3,8 @@
 // that storage keeps between restarts. Which fields a kind uses is written beside each; the
 // others stay zero. Serialize() gives a short text that Parse() reads back exactly (doubles
 // round-trip through std::to_chars), so a restart resumes a hold time, a cycle or a budget
-// where it was. Plain value; no I/O; any thread.
+// where it was. Text written before the cost fields existed still reads (costs 0).
+// Plain value; no I/O; any thread.
 #pragma once
 
 #include <cstdint>
@@ -49,12 +50,17 @@ struct AlertState {
   int stage = 0;
   std::int64_t night = 0;    // standby_creep: local date (days since 1970) of tonight's window
   std::int64_t samples = 0;  // standby_creep: samples seen in tonight's window
+  // Money in the site's currency (PowerSample::cost). cycle_done: the run's cost so far;
+  // budget: the cost in the period.
+  double cost = 0;
+  double tail_cost = 0;  // cycle_done: the cost since the load went quiet
 
   bool operator==(const AlertState&) const = default;
 
   // "phase=raised since=1767225600000 quiet=0 last=... wh=... tail=... extreme=... ..."
   std::string Serialize() const;
-  // Reads what Serialize() wrote. Corruption names the first field that does not read.
+  // Reads what Serialize() wrote, also without the trailing cost fields (states stored
+  // before costs were kept). Corruption names the first field that does not read.
   static Result<AlertState> Parse(std::string_view text);
 };
 

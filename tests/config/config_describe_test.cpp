@@ -72,13 +72,22 @@ TEST_CASE("the tariffs in the summary, with their dated changes") {
 }
 
 TEST_CASE("alert rules in the summary") {
-  const std::string text = kMinimalConfig +
+  // A cost budget needs the site's tariff.
+  testing::TempDir dir;
+  std::filesystem::create_directories(dir.path() / "tariffs");
+  testing::WriteFile(dir.path() / "tariffs" / "flat.toml",
+                     "name = \"Flat\"\n[[season]]\nname = \"all\"\nfrom = \"01-01\"\n"
+                     "to = \"12-31\"\ndefault_period = \"any\"\n[[season.period]]\n"
+                     "name = \"any\"\nprice = 0.2\n");
+  const std::string text = kMinimalConfig.substr(0, kMinimalConfig.find("\n\n") + 1) +
+                           "tariff = \"flat\"\n" +
+                           kMinimalConfig.substr(kMinimalConfig.find("\n\n") + 1) +
                            "[[alert]]\nid = \"spend\"\nkind = \"budget\"\ncircuits = [\"c1\"]\n"
                            "budget_cost = 2.5\nbudget_period = \"week\"\n"
                            "[[alert]]\nid = \"idle\"\nkind = \"power_below\"\ncircuits = [\"c1\"]\n"
                            "level_watts = 20\n";
-  Result<Config> config = ParseConfig(text, "site.toml");
-  REQUIRE(config.ok());
+  Result<Config> config = ParseConfig(text, dir.File("site.toml"));
+  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
   const std::string summary = DescribeConfig(*config);
   CHECK(summary.find("alert rules (2):\n"
                      "  spend: budget on circuit c1, 2.5 USD per week\n"
@@ -109,6 +118,8 @@ TEST_CASE("the example's summary names its circuits, units, splits and rules") {
   CHECK(summary.find("  dryer-finished: cycle_done on circuit laundry-dryer, level 400 W\n") !=
         std::string::npos);
   CHECK(summary.find("  node-quiet: node_silent on every node, after 5 missed intervals\n") !=
+        std::string::npos);
+  CHECK(summary.find("  upper-daily-spend: budget on unit upper, 2.25 USD per day\n") !=
         std::string::npos);
 
   // Neither key, in either case, appears.

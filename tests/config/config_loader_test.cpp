@@ -83,6 +83,13 @@ TEST_CASE("LoadConfig reads a file and names it in messages") {
         "cannot read \"" + dir.File("absent.toml") + "\": No such file or directory");
 }
 
+// Found by tests/fuzz/config_run.sh (the same input broke a debug build of toml++'s parser).
+TEST_CASE("a control character where a key begins is a TOML syntax error, at its line") {
+  CHECK(testing::ErrorOf(kMinimalConfig + "[\x01node]\n") ==
+        "site.toml:17: TOML syntax: Error while parsing key: expected bare key starting "
+        "character or string delimiter, saw '\\u0001' (column 2)");
+}
+
 TEST_CASE("key_file: relative to the config's folder, 64 hex digits, whitespace ignored") {
   TempDir dir;
   std::filesystem::create_directory(dir.path() / "keys");

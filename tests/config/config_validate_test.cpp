@@ -104,6 +104,17 @@ TEST_CASE("alert subjects exist") {
         "site.toml:28: alert[0].nodes[1]: no node \"attic\"");
 }
 
+TEST_CASE("a cost budget needs the site tariff") {
+  const std::string budget = "[[alert]]\n"             // 17
+                             "id = \"spend\"\n"         // 18
+                             "kind = \"budget\"\n"      // 19
+                             "circuits = [\"c1\"]\n";   // 20
+  CHECK(ErrorOf(kMinimalConfig + budget + "budget_period = \"week\"\nbudget_cost = 12.5\n") ==
+        "site.toml:22: alert[0].budget_cost: needs site.tariff, whose prices cost the energy; "
+        "set site.tariff or use budget_kwh");
+  CHECK(ErrorOf(kMinimalConfig + budget + "budget_kwh = 40\n") == "OK");
+}
+
 TEST_CASE("resent readings must outlive retention") {
   CHECK(ErrorOf(kMinimalConfig + "[storage]\nraw_retention_days = 2\n"
                                  "[ingest]\nresend_horizon_seconds = 172800\n") == "OK");

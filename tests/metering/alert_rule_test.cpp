@@ -408,14 +408,118 @@ TEST_SUITE("metering") {
     CHECK(range->end_ms == kT0 + 13 * 24 * kHour);    // 2026-03-15
   }
 
-  TEST_CASE("a cost budget is refused until the alert rules can read the site tariff") {
-    AlertRuleConfig config = Budget("day", 0);
-    config.budget_cost = 5;
-    Result<AlertRule> rule = AlertRule::Create(config, Site());
+  AlertRuleConfig CostBudget(const std::string& period, double cost) {
+    AlertRuleConfig config = Budget(period, 0);
+    config.budget_cost = cost;
+    return config;
+  }
+
+  AlertSite PricedSite(const std::string& zone = "UTC") {
+    AlertSite site = Site(zone);
+    site.priced = true;
+    return site;
+  }
+
+  // One hour at `watts` ending `end_h` hours after kT0, costing `cost`.
+  PowerSample PricedHour(double end_h, double watts, double cost) {
+    PowerSample sample = Hour(end_h, watts);
+    sample.cost = cost;
+    return sample;
+  }
+
+  TEST_CASE("budget_cost: refused on a site whose samples are not priced") {
+    Result<AlertRule> rule = AlertRule::Create(CostBudget("day", 5), Site());
     REQUIRE_FALSE(rule.ok());
-    CHECK(rule.status().message() ==
-          "alert \"b\": budget_cost needs the site tariff, which alert rules cannot read yet; "
-          "use budget_kwh");
+    CHECK(rule.status().message() == "alert \"b\": budget_cost needs a site tariff to price energy");
+    CHECK(AlertRule::Create(CostBudget("day", 5), PricedSite()).ok());
+  }
+
+  TEST_CASE("budget_cost: spent exactly the budget is not over it; a micro-unit more is") {
+    AlertRule rule = Rule(CostBudget("day", 3.3), PricedSite());
+    AlertState state;
+    std::vector<AlertTransition> out;
+    // 1.1 + 2.2 is 3.3000000000000003 in binary floating point: still exactly the budget.
+    rule.OnSample(PricedHour(21, 1100, 1.1), &state, &out);
+    rule.OnSample(PricedHour(22, 2200, 2.2), &state, &out);
+    CHECK(state.cost > 3.3);
+    // The projection (over 22 of 24 hours) is above the budget: on course, not exceeded.
+    REQUIRE(out.size() == 1);
+    CHECK(out[0].reason == "on course to exceed");
+    CHECK(out[0].Value("used_cost") == doctest::Approx(3.3));
+    CHECK(out[0].Value("budget_cost") == 3.3);
+    CHECK(out[0].Value("projected_cost") == doctest::Approx(3.3 * 24 / 22));
+    CHECK(out[0].Value("used_kwh") == doctest::Approx(3.3));
+    CHECK_FALSE(out[0].Value("budget_kwh"));
+    rule.OnSample(PricedHour(23.5, 0, 0.000001), &state, &out);
+    REQUIRE(out.size() == 2);
+    CHECK(out[1].kind == AlertEventKind::kChanged);
+    CHECK(out[1].reason == "budget exceeded");
+    rule.OnTick(kT0 + 24 * kHour, &state, &out);
+    REQUIRE(out.size() == 3);
+    CHECK(out[2].kind == AlertEventKind::kCleared);
+    CHECK(out[2].Value("used_cost") == doctest::Approx(3.300001));
+    CHECK(out[2].Value("budget_cost") == 3.3);
+    CHECK(out[2].Value("period_end") == kT0 + 24 * kHour);
+  }
+
+  TEST_CASE("budget_cost: raised when the projection crosses the budget, not when it meets it") {
+    AlertRule rule = Rule(CostBudget("day", 4.8), PricedSite());
+    AlertState state;
+    std::vector<AlertTransition> out;
+    // 0.2 an hour projects exactly 4.8 for the day: on budget, nothing to say.
+    for (int h = 1; h <= 6; ++h) rule.OnSample(PricedHour(h, 1000, 0.2), &state, &out);
+    CHECK(out.empty());
+    // Dearer hours: 1.2 + 0.5 = 1.7 after 7 h projects 1.7 x 24 / 7 = 5.83 > 4.8.
+    rule.OnSample(PricedHour(7, 1000, 0.5), &state, &out);
+    REQUIRE(out.size() == 1);
+    CHECK(out[0].kind == AlertEventKind::kRaised);
+    CHECK(out[0].at_ms == kT0 + 7 * kHour);
+    CHECK(out[0].Value("projected_cost") == doctest::Approx(1.7 * 24 / 7));
+    // A cheap night after does not clear it: within a period a budget only gets worse.
+    rule.OnSample(PricedHour(20, 0, 0), &state, &out);
+    CHECK(out.size() == 1);
+    CHECK(state.stage == 1);
+  }
+
+  TEST_CASE("budget_cost: a new period starts a new count of money and energy") {
+    AlertRule rule = Rule(CostBudget("week", 1), PricedSite());
+    AlertState state;
+    std::vector<AlertTransition> out;
+    rule.OnSample(PricedHour(1, 500, 2), &state, &out);  // Monday 2026-03-02: exceeded at once
+    REQUIRE(out.size() == 1);
+    CHECK(out[0].reason == "budget exceeded");
+    rule.OnSample(PricedHour(7 * 24 + 1, 100, 0.25), &state, &out);  // the next Monday
+    REQUIRE(out.size() == 2);
+    CHECK(out[1].kind == AlertEventKind::kCleared);
+    CHECK(out[1].at_ms == kT0 + 7 * 24 * kHour);
+    CHECK(out[1].Value("used_cost") == 2);
+    CHECK(state.cost == 0.25);
+    CHECK(state.energy_wh == 100);
+  }
+
+  TEST_CASE("cycle_done: the finished cycle carries its cost on a priced site") {
+    AlertRule priced = Rule(Cycle(), PricedSite());
+    AlertRule unpriced = Rule(Cycle());
+    AlertState priced_state;
+    AlertState unpriced_state;
+    std::vector<AlertTransition> priced_out;
+    std::vector<AlertTransition> unpriced_out;
+    auto feed = [&](double end_s, double watts, double cost) {
+      PowerSample sample = At(end_s, watts);
+      sample.cost = cost;
+      priced.OnSample(sample, &priced_state, &priced_out);
+      unpriced.OnSample(sample, &unpriced_state, &unpriced_out);
+    };
+    for (int s = 10; s <= 600; s += 10) feed(s, 3000, 0.01);  // 60 samples running
+    for (int s = 610; s <= 650; s += 10) feed(s, 10, 0.001);  // a 50 s dip, part of the run
+    for (int s = 660; s <= 700; s += 10) feed(s, 3000, 0.01);
+    for (int s = 710; s <= 890; s += 10) feed(s, 2, 0.0001);  // 180 s quiet: not the run's
+    REQUIRE(priced_out.size() == 1);
+    CHECK(priced_out[0].Value("cost") == doctest::Approx(65 * 0.01 + 5 * 0.001));
+    CHECK(priced_out[0].Value("duration_s") == 700);
+    REQUIRE(unpriced_out.size() == 1);
+    CHECK_FALSE(unpriced_out[0].Value("cost"));
+    CHECK(unpriced_out[0].Value("energy_wh") == priced_out[0].Value("energy_wh"));
   }
 }
 

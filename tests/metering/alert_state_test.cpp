@@ -23,10 +23,31 @@ TEST_SUITE("metering") {
     state.stage = 2;
     state.night = 20514;
     state.samples = 42;
+    state.cost = 12.345678901;
+    state.tail_cost = 0.07;
     Result<AlertState> back = AlertState::Parse(state.Serialize());
     REQUIRE(back.ok());
     CHECK(*back == state);
     CHECK(AlertState::Parse(AlertState{}.Serialize()).value() == AlertState{});
+  }
+
+  TEST_CASE("alert state: a state stored before costs were kept reads with costs of 0") {
+    // Serialize()'s form before the cost fields were added (a database of an older build).
+    const std::string older =
+        "phase=raised since=1772409600000 quiet=0 last=1772413200000 wh=2500.5 tail=0 "
+        "extreme=0 interval=0 count=0 stage=1 night=0 samples=0";
+    Result<AlertState> state = AlertState::Parse(older);
+    REQUIRE(state.ok());
+    CHECK(state->phase == AlertPhase::kRaised);
+    CHECK(state->energy_wh == 2500.5);
+    CHECK(state->stage == 1);
+    CHECK(state->cost == 0);
+    CHECK(state->tail_cost == 0);
+    CHECK(AlertState::Parse(older + " cost=1.5").value().cost == 1.5);
+    CHECK(AlertState::Parse(older + " cost=x").status().message() ==
+          "alert state: field \"cost\" does not read: \"cost=x\"");
+    CHECK(AlertState::Parse(older + " ").status().message() ==
+          "alert state: field \"cost\" does not read: \"\"");
   }
 
   TEST_CASE("alert state: damaged text is Corruption naming the field") {

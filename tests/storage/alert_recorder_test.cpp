@@ -7,7 +7,10 @@
 #include <doctest/doctest.h>
 
 #include <atomic>
+#include <filesystem>
 #include <future>
+
+#include <nlohmann/json.hpp>
 
 #include "storage/alert_queries.h"
 #include "test_util.h"
@@ -72,12 +75,13 @@ ChannelReading Reading(int channel, UnixMs end_ms, double watts, int duration_ms
 // The database, writer and recorder of one daemon run; destroyed = stopped.
 class Run {
  public:
-  Run(const Config& config, std::function<UnixMs()> clock, std::vector<std::string> hooks = {})
+  Run(const Config& config, std::function<UnixMs()> clock, std::vector<std::string> hooks = {},
+      const TariffSchedule* tariffs = nullptr)
       : config_(config) {
     db_ = std::move(Database::Open(config.storage).value());
     SeriesMap series = RegisterSeries(*db_, config).value();
     Result<std::unique_ptr<AlertRecorder>> recorder =
-        AlertRecorder::Create(config, *db_, AlertRecorderOptions{hooks, clock});
+        AlertRecorder::Create(config, *db_, AlertRecorderOptions{hooks, clock, tariffs});
     REQUIRE(recorder.ok());
     recorder_ = std::move(recorder).value();
     WriterOptions options;
@@ -135,7 +139,83 @@ struct Fixture {
   std::function<UnixMs()> clock = [this] { return now.load(); };
 };
 
+// A daily cost budget of 1.00 on "heater", priced by a flat 0.25 a kWh (our test prices).
+struct CostFixture {
+  CostFixture() {
+    std::filesystem::create_directory(dir.path() / "tariffs");
+    testing::WriteFile(dir.path() / "tariffs" / "flat.toml",
+                       "name = \"Flat\"\n[[season]]\nname = \"all year\"\nfrom = \"01-01\"\n"
+                       "to = \"12-31\"\ndefault_period = \"any\"\n"
+                       "[[season.period]]\nname = \"any\"\nprice = 0.25\n");
+    const std::string text = std::string(kSite).replace(
+        std::string(kSite).find("nominal_volts"), 0, "tariff = \"flat\"\n") +
+        "[[alert]]\nid = \"spend\"\nkind = \"budget\"\ncircuits = [\"heater\"]\n"
+        "budget_period = \"day\"\nbudget_cost = 1.00\n";
+    Result<Config> parsed = ParseConfig(text, dir.File("site.toml"));
+    REQUIRE_MESSAGE(parsed.ok(), parsed.status().ToString());
+    config = *parsed;
+    config.alerts.erase(config.alerts.begin(), config.alerts.begin() + 2);  // "spend" alone
+    schedule = TariffSchedule::Create(config).value();
+  }
+  // `watts` on the heater's channel over the `hours` hours that end `end_h` hours after
+  // midnight UTC of kT0's day (2026-03-08).
+  static ChannelReading Heater(double end_h, double hours, double watts) {
+    const UnixMs midnight = kT0 - 7 * 3'600'000;
+    return Reading(0, midnight + static_cast<UnixMs>(end_h * 3'600'000), watts,
+                   static_cast<int>(hours * 3'600'000));
+  }
+  std::vector<StoredEvent> Events() {
+    Result<std::unique_ptr<Database>> reader = Database::OpenReader(config.storage.path);
+    REQUIRE(reader.ok());
+    return ReadEventsAfter(**reader, 0, 1000).value();
+  }
+  testing::TempDir dir;
+  Config config;
+  TariffSchedule schedule;
+  std::function<UnixMs()> clock = [] { return kT0; };
+};
+
 TEST_SUITE("storage") {
+  TEST_CASE("alert recorder: a cost budget counts across restarts, each reading once") {
+    CostFixture f;
+    {
+      Run run(f.config, f.clock, {}, &f.schedule);
+      REQUIRE(run.Store({CostFixture::Heater(8, 8, 100)}).ok());  // 0.8 kWh: 0.20
+    }
+    CHECK(f.Events().empty());  // projects 0.60 for the day
+    {
+      Run run(f.config, f.clock, {}, &f.schedule);
+      // 0.20 kept + 0.25 = 0.45 by 09:00 projects 1.20: on course. Without the stored 0.20
+      // it would project 0.67 and say nothing.
+      REQUIRE(run.Store({CostFixture::Heater(9, 1, 1000)}).ok());
+      // Resent readings are stored once and priced once; 0.50 more makes 0.95, within budget
+      // (counted twice they would pass it).
+      REQUIRE(run.Store({CostFixture::Heater(8, 8, 100), CostFixture::Heater(9, 1, 1000)}).ok());
+      REQUIRE(run.Store({CostFixture::Heater(10, 1, 2000)}).ok());
+    }
+    {
+      Run run(f.config, f.clock, {}, &f.schedule);  // a restart during the active alert
+      REQUIRE(run.Store({CostFixture::Heater(11, 1, 200)}).ok());  // exactly 1.00: not over
+      CHECK(f.Events().size() == 1);
+      REQUIRE(run.Store({CostFixture::Heater(12, 1, 4)}).ok());  // 1.001: over
+      REQUIRE(run.Store({CostFixture::Heater(24 + 1, 1, 100)}).ok());  // the next day
+    }
+    std::vector<StoredEvent> events = f.Events();
+    REQUIRE(events.size() == 3);
+    CHECK(events[0].kind == "raised");
+    CHECK(events[0].reason == "on course to exceed");
+    CHECK(events[0].at_ms == kT0 + 2 * 3'600'000);
+    CHECK(events[1].kind == "changed");
+    CHECK(events[1].reason == "budget exceeded");
+    CHECK(events[1].at_ms == kT0 + 5 * 3'600'000);
+    CHECK(events[2].kind == "cleared");
+    CHECK(events[2].at_ms == kT0 + 17 * 3'600'000);  // midnight UTC of 2026-03-09
+    nlohmann::json values = nlohmann::json::parse(events[2].value_json);
+    CHECK(values["used_cost"].get<double>() == doctest::Approx(1.001));
+    CHECK(values["budget_cost"] == 1.0);
+    CHECK(values["used_kwh"].get<double>() == doctest::Approx(4.004));
+  }
+
   TEST_CASE("alert recorder: a restart in the middle of a hold time neither loses nor doubles") {
     Fixture f;
     {
