@@ -16,7 +16,8 @@ inline constexpr int kMaxSeriesPoints = 10000;
 inline constexpr UnixMs kMaxRawRangeMs = 2 * 86400 * kMsPerSecond;
 
 // The longest range /v1/energy sums: any 12 billing cycles or calendar year fits. Its work
-// is one row per circuit per quarter hour of the range (about 38,000 rows per circuit).
+// is one row per circuit per local day of the range plus the quarter hours of its partial
+// first and last days (at most about 590 rows per circuit; storage/daily_rollup.h).
 inline constexpr UnixMs kMaxEnergyRangeMs = 400 * 86400 * kMsPerSecond;
 
 // The longest range one ESPI usage export covers (api/usage_export.h): a year and a month of
@@ -41,6 +42,12 @@ inline int MaxEventWaiters(int http_threads) { return http_threads >= 2 ? http_t
 
 // Retry-After (seconds) of the 503 beyond that cap.
 inline constexpr int kEventWaitRetryAfterSeconds = 5;
+
+// Connections served at once (api/connection_pool.h): each holds a thread while it is open,
+// idle or slow, so this many hostile connections from one client are needed before a
+// well-behaved one waits. An idle thread costs little (the stack pages it touched, tens of KiB),
+// so 256 of them stay far below the daemon's memory target.
+inline constexpr int kMaxHttpConnectionThreads = 256;
 
 // The longest silence one request may set: 30 days.
 inline constexpr double kMaxSilenceSeconds = 30 * 86400;

@@ -6,7 +6,7 @@
 #include "api/csv.h"
 #include "api/query_parameters.h"
 #include "api/rfc3339.h"
-#include "storage/queries.h"
+#include "storage/daily_rollup.h"
 
 namespace ampledger {
 namespace {
@@ -177,7 +177,7 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
 
   const std::vector<int> visible = VisibleCircuits(config, scope);
   Result<std::vector<std::vector<CircuitBucket>>> buckets =
-      ReadBucketsForCircuits(db, series, visible, *from, *to);
+      ReadDaysAndBucketsForCircuits(db, series, zone, visible, *from, *to);
   if (!buckets.ok()) return buckets.status();
   const TimeRange range{*from, *to};
   const std::vector<EnergyRow> rows =

@@ -4,11 +4,14 @@
 #include <openssl/ssl.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cerrno>
 #include <cstring>
 #include <regex>
 #include <thread>
 
+#include "api/api_limits.h"
+#include "api/connection_pool.h"
 #include "api/problem.h"
 
 namespace ampledger {
@@ -115,8 +118,10 @@ class HttpServer::Impl {
   }
 
   void Install() {
+    // http.threads are always there; more start while connections hold them all (slow or
+    // idle keep-alive clients), so one client's connections cannot starve the rest.
     server_->new_task_queue = [threads = config_.threads] {
-      return new httplib::ThreadPool(static_cast<size_t>(threads));
+      return new ConnectionPool(threads, std::max(threads, kMaxHttpConnectionThreads));
     };
     server_->set_payload_max_length(kMaxRequestBodyBytes);
     // A response leaves in several writes (headers, then body). With Nagle's algorithm the

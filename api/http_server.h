@@ -6,7 +6,9 @@
 //    are refused before the body is read (0.11.4 lets chunked bodies bypass its size limit);
 //  - a small payload limit (kMaxRequestBodyBytes);
 //  - exceptions become a 500 problem with no internals (0.11.4 would send e.what());
-//  - unknown paths are 404 and known paths with another method 405 with Allow.
+//  - unknown paths are 404 and known paths with another method 405 with Allow;
+//  - a connection thread per open connection, up to kMaxHttpConnectionThreads
+//    (api/connection_pool.h), so slow or idle clients do not hold every worker.
 // Route() before Start(); handlers run on the server's worker threads, concurrently.
 #pragma once
 

@@ -9,6 +9,7 @@
 #include "api/energy_series.h"
 #include "api/query_parameters.h"
 #include "api/rfc3339.h"
+#include "storage/daily_rollup.h"
 #include "storage/queries.h"
 
 namespace ampledger {
@@ -60,8 +61,13 @@ Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config
   Result<std::vector<TimeRange>> periods =
       SeriesPeriods(zone, query.step, query.from_ms, query.to_ms, kMaxSeriesPoints);
   if (!periods.ok()) return periods.status();
+  // Days and months are whole local days: read from the daily rollup, a row per day rather
+  // than 96 (storage/daily_rollup.h).
+  const bool whole_days = query.step == SeriesStep::kDay || query.step == SeriesStep::kMonth;
   Result<std::vector<std::vector<CircuitBucket>>> buckets =
-      ReadBucketsForCircuits(db, series, subject.circuits, query.from_ms, query.to_ms);
+      whole_days ? ReadDaysAndBucketsForCircuits(db, series, zone, subject.circuits,
+                                                 query.from_ms, query.to_ms)
+                 : ReadBucketsForCircuits(db, series, subject.circuits, query.from_ms, query.to_ms);
   if (!buckets.ok()) return buckets.status();
   const std::vector<SeriesPoint> points = SumIntoPeriods(*periods, *buckets);
   double total_wh = 0;

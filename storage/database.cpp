@@ -125,11 +125,28 @@ CREATE TABLE webhook_outbox (
   PRIMARY KEY (hook, event)
 ) WITHOUT ROWID;
 )sql",
-      // 5: reserved for the daily rollups of branch rel3, which take this number when the
-      // branches merge; it changes nothing here.
-      "SELECT 1;",
+      // 5: the daily rollup (storage/daily_rollup.h): each circuit's sums of its `rollup` rows
+      // per local day of the site's zone, and the zone those days are of. The writer fills it
+      // on its first start after this migration, and again whenever the zone changes.
+      R"sql(
+CREATE TABLE rollup_day (
+  circuit INTEGER NOT NULL REFERENCES circuit_series (id),
+  day INTEGER NOT NULL,             -- local midnight starting the day, ms since 1970 UTC
+  day_end INTEGER NOT NULL,         -- the next local midnight (23, 24 or 25 hours later)
+  real_wh REAL NOT NULL,
+  apparent_vah REAL NOT NULL,
+  min_w REAL NOT NULL,              -- least of the day's buckets' min_w
+  max_w REAL NOT NULL,              -- greatest of their max_w
+  coverage_sum REAL NOT NULL,       -- sum of their coverages: 96 is a fully measured 24 h day
+  quality INTEGER NOT NULL,         -- the worst of theirs
+  PRIMARY KEY (circuit, day)
+) WITHOUT ROWID;
+CREATE TABLE rollup_day_zone (
+  zone TEXT NOT NULL                -- IANA zone of rollup_day's days; one row, or none
+);
+)sql",
       // 6: main (utility) meter interval reads, imported from the utility's interval data
-      // (storage/main_meter_intervals.h). IF NOT EXISTS: safe under a renumbering at merge.
+      // (storage/main_meter_intervals.h).
       R"sql(
 CREATE TABLE IF NOT EXISTS main_meter_interval (
   start_ms INTEGER PRIMARY KEY,     -- the interval's start, ms since 1970 UTC

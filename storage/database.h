@@ -10,6 +10,8 @@
 //   reading(t_end, channel, ...)       raw readings, keyed (time, series) for append-only writes
 //   rollup(circuit, bucket, ...)       energy per circuit per 15-minute UTC bucket
 //   rollup_pending(bucket)             buckets whose rollup rows may lag the raw readings
+//   rollup_day(circuit, day, ...)      sums of rollup per local day (storage/daily_rollup.h)
+//   rollup_day_zone(zone)              the IANA zone of rollup_day's days
 //   node_state(node, blob)             ingest's per-node state (anti-replay window)
 //   api_token(id, secret_sha256, ...)  API bearer tokens, hashed (storage/token_store.h)
 //   main_meter_read(id, kind, ...)     main (utility) meter reads (storage/main_meter_store.h)

@@ -37,6 +37,7 @@ ReadingWriter::ReadingWriter(const Config& config, Database* db, SeriesMap serie
       series_(std::move(series)),
       storage_(config.storage),
       max_gap_ms_(std::max<UnixMs>(1, static_cast<UnixMs>(config.site.max_gap_seconds * 1000))),
+      time_zone_(config.site.time_zone),
       options_(std::move(options)) {}
 
 ReadingWriter::~ReadingWriter() { Stop(); }
@@ -60,7 +61,7 @@ Status ReadingWriter::Prepare() {
     *statement = std::move(prepared.value());
   }
   Result<std::unique_ptr<RollupBuilder>> rollups =
-      RollupBuilder::Create(db_, series_, max_gap_ms_);
+      RollupBuilder::Create(db_, series_, max_gap_ms_, time_zone_);
   if (!rollups.ok()) return rollups.status();
   rollups_ = std::move(rollups.value());
   open_written_at_ms_ = rollups_->newest_ms();
@@ -175,7 +176,7 @@ void ReadingWriter::Run() {
       // writing resumes. If the cause persists, the next commit fails again.
       lock.unlock();
       Result<std::unique_ptr<RollupBuilder>> rollups =
-          RollupBuilder::Create(db_, series_, max_gap_ms_);
+          RollupBuilder::Create(db_, series_, max_gap_ms_, time_zone_);
       if (rollups.ok() && options_.hook) {
         if (Status reloaded = options_.hook->Reload(*db_); !reloaded.ok()) rollups = reloaded;
       }

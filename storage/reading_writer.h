@@ -121,6 +121,7 @@ class ReadingWriter {
   const SeriesMap series_;
   const StorageConfig storage_;
   const UnixMs max_gap_ms_;
+  const std::string time_zone_;  // the site's: local days of the daily rollup
   const WriterOptions options_;
 
   // The writer thread's own (and Start()'s, before the thread exists).

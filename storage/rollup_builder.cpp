@@ -19,12 +19,29 @@ constexpr UnixMs kCloseSlackMs = 2 * 60 * kMsPerSecond;
 }  // namespace
 
 Result<std::unique_ptr<RollupBuilder>> RollupBuilder::Create(Database* db, const SeriesMap& series,
-                                                             UnixMs max_gap_ms) {
+                                                             UnixMs max_gap_ms,
+                                                             const std::string& time_zone) {
+  std::optional<LocalTime> zone;
+  if (!time_zone.empty()) {
+    Result<LocalTime> found = LocalTime::ForZone(time_zone);
+    if (!found.ok()) return found.status();
+    zone = *found;
+  }
   std::unique_ptr<RollupBuilder> builder(new RollupBuilder(db, series, max_gap_ms));
   builder->raw_kept_from_ms_ = kLongAgo;
   if (Status s = builder->Prepare(); !s.ok()) return s;
   if (Status s = db->Exec("BEGIN IMMEDIATE", "recover rollups"); !s.ok()) return s;
-  Status s = builder->Load();
+  Status s;
+  if (zone) {
+    Result<std::unique_ptr<DailyRollup>> daily = DailyRollup::Create(db, builder->series_, *zone);
+    s = daily.status();
+    if (s.ok()) builder->daily_ = std::move(daily.value());
+  } else {
+    // A config built in code with no zone (a site's config always has one): no daily rollup,
+    // and none stored, so readers sum 15-minute buckets.
+    s = db->Exec("DELETE FROM rollup_day_zone", "forget the daily rollup's zone");
+  }
+  if (s.ok()) s = builder->Load();
   if (s.ok()) s = builder->Finish(/*write_open=*/true);
   if (s.ok()) s = db->Exec("COMMIT", "recover rollups");
   if (!s.ok()) {
@@ -180,6 +197,7 @@ Status RollupBuilder::Recompute() {
 }
 
 Status RollupBuilder::WriteBucket(UnixMs bucket, const std::vector<ChannelBucket>& channels) {
+  if (daily_) daily_->MarkBucket(bucket);
   for (int circuit = 0; circuit < series_.CircuitCount(); ++circuit) {
     bool any = false;
     for (int channel : series_.channels_of_circuit[circuit]) {
@@ -225,7 +243,7 @@ Status RollupBuilder::Finish(bool write_open) {
       open.changed = false;
     }
   }
-  return Status();
+  return daily_ ? daily_->Finish() : Status();
 }
 
 bool RollupBuilder::HasUnwrittenOpenBuckets() const {

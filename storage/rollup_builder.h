@@ -15,15 +15,19 @@
 //    opened it: after a crash, Create() recomputes exactly those buckets from raw readings.
 //  - Start-up reads only the newest max_gap of readings (for each channel's last reading)
 //    and the pending buckets; no full-table scan.
+//  - Every bucket row written marks its local day; Finish() sums those days again into the
+//    daily rollup (storage/daily_rollup.h) in the same transaction.
 #pragma once
 
 #include <map>
 #include <memory>
 #include <optional>
 #include <set>
+#include <string>
 #include <vector>
 
 #include "daemon/metering/bucket.h"
+#include "storage/daily_rollup.h"
 #include "storage/database.h"
 #include "storage/rollup_recompute.h"
 #include "storage/series.h"
@@ -32,9 +36,12 @@ namespace ampledger {
 
 class RollupBuilder {
  public:
-  // Loads the state above from `db` (which must outlive this). max_gap_ms > 0.
+  // Loads the state above from `db` (which must outlive this), and rebuilds the daily rollup
+  // when it was built for another zone than `time_zone` (the site's, IANA; "" keeps no daily
+  // rollup). max_gap_ms > 0.
   static Result<std::unique_ptr<RollupBuilder>> Create(Database* db, const SeriesMap& series,
-                                                       UnixMs max_gap_ms);
+                                                       UnixMs max_gap_ms,
+                                                       const std::string& time_zone);
 
   // Accounts for `reading`, just inserted (not a duplicate) in the open transaction.
   void Add(const ChannelReading& reading);
@@ -84,6 +91,7 @@ class RollupBuilder {
   std::map<UnixMs, OpenBucket> open_;  // by bucket start; all of them are in rollup_pending
   std::vector<std::pair<UnixMs, UnixMs>> recompute_;  // time ranges marked by Add()
   std::vector<UnixMs> newly_open_;                     // to insert into rollup_pending
+  std::unique_ptr<DailyRollup> daily_;
 
   Statement upsert_;
   Statement erase_;

@@ -11,6 +11,7 @@
 #include <nlohmann/json.hpp>
 #include <stdexcept>
 #include <string>
+#include <vector>
 
 #include "test_util.h"
 
@@ -225,6 +226,30 @@ TEST_SUITE("api") {
                            std::to_string(kMaxRequestBodyBytes + 1) + "\r\n\r\n");
     CHECK(big.rfind("HTTP/1.1 413", 0) == 0);
     CHECK(client->Get("/v1/things/after")->status == 200);
+  }
+
+  // Found by tests/reliability/http_hostile: with a fixed pool, as many slow connections as
+  // worker threads (2 here) held every worker, and a well-behaved client waited until they
+  // gave up (never, for one that sends a byte a second).
+  TEST_CASE_FIXTURE(ServerFixture, "HttpServer answers while slow connections hold its threads") {
+    std::vector<int> slow;
+    for (int i = 0; i < 8; ++i) {
+      int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+      sockaddr_in address{};
+      address.sin_family = AF_INET;
+      address.sin_port = htons(server.port());
+      address.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+      REQUIRE(::connect(fd, reinterpret_cast<sockaddr*>(&address), sizeof address) == 0);
+      // Half a request line: the server's thread reads on, waiting for the rest.
+      ::send(fd, "GET /v1/thi", 11, MSG_NOSIGNAL);
+      slow.push_back(fd);
+    }
+    client->set_read_timeout(std::chrono::seconds(3));
+    client->set_connection_timeout(std::chrono::seconds(3));
+    auto answer = client->Get("/v1/things/meanwhile");
+    REQUIRE(answer);
+    CHECK(answer->status == 200);
+    for (int fd : slow) ::close(fd);
   }
 }
 

@@ -127,10 +127,14 @@ int Main(int argc, char** argv) {
   RollupCheck rollups = config.ok() ? CompareRollups(*config, first_end_ms - 86'400'000,
                                                      WallClockMs() + 86'400'000)
                                     : RollupCheck{0, 1};
+  RollupCheck days = config.ok() ? CompareDailyRollups(*config, first_end_ms - 86'400'000,
+                                                       WallClockMs() + 86'400'000)
+                                 : RollupCheck{0, 1};
   const bool ok = saw_full && logged && integrity_while_full == "ok" && enlarged &&
                   resumed_health == "ok" && node.drained && node.acked == node.packs &&
                   stored == static_cast<std::int64_t>(expected) && integrity == "ok" &&
-                  rollups.mismatches == 0 && rollups.buckets > 0 && exit_code == 0;
+                  rollups.mismatches == 0 && rollups.buckets > 0 && days.mismatches == 0 &&
+                  days.buckets > 0 && exit_code == 0;
 
   std::printf("### Disk full (`disk_full %s %d`)\n\n", binary.c_str(), mib);
   std::printf("- database on a %d MiB tmpfs; one node, a pack of %d channels every 2 ms\n", mib,
@@ -148,8 +152,9 @@ int Main(int argc, char** argv) {
               stored == static_cast<std::int64_t>(expected) ? "the gap filled by resends"
                                                             : "MISMATCH");
   std::printf("- PRAGMA integrity_check: %s; rollups vs recomputation: %d buckets, %d "
-              "mismatches; SIGTERM: exit %d\n",
-              integrity.c_str(), rollups.buckets, rollups.mismatches, exit_code);
+              "mismatches; daily rollups: %d circuit-days, %d mismatches; SIGTERM: exit %d\n",
+              integrity.c_str(), rollups.buckets, rollups.mismatches, days.buckets,
+              days.mismatches, exit_code);
   std::printf("- result: %s\n\n", ok ? "PASS" : "FAIL");
   if (!ok) std::fprintf(stderr, "serve log:\n%s\n", log.c_str());
   return ok ? 0 : 1;

@@ -6,7 +6,8 @@
 //   - every pack sent was acknowledged, and the database holds exactly its readings (none lost,
 //     none twice: an acknowledgement is sent only after the commit is durable);
 //   - PRAGMA integrity_check answers ok;
-//   - the stored 15-minute rollups of every circuit equal a recomputation from the raw readings.
+//   - the stored 15-minute rollups of every circuit equal a recomputation from the raw readings,
+//     and so do the daily rollups.
 // Prints its figures as markdown; exits 0 only if every check holds.
 // Run on demand (tests/reliability/run.sh runs it):
 //   kill_restart AMPLEDGER_BINARY [kills, default 20] [seed, default 1]
@@ -86,11 +87,12 @@ int Main(int argc, char** argv) {
       std::strtoll(QueryText(site.db_path(), "SELECT count(*) FROM reading").c_str(), nullptr, 10);
   const std::string integrity = QueryText(site.db_path(), "PRAGMA integrity_check");
   Result<Config> config = LoadConfig(site.config_path());
-  RollupCheck rollups;
+  RollupCheck rollups, days;
   if (config.ok()) {
     rollups = CompareRollups(*config, first_end_ms - 86'400'000, WallClockMs() + 86'400'000);
+    days = CompareDailyRollups(*config, first_end_ms - 86'400'000, WallClockMs() + 86'400'000);
   } else {
-    rollups.mismatches = 1;
+    rollups.mismatches = days.mismatches = 1;
   }
 
   std::sort(restart_ms.begin(), restart_ms.end());
@@ -99,7 +101,8 @@ int Main(int argc, char** argv) {
   const std::uint64_t expected = acked * kChannels;
   const bool ok = restarted && drained && acked == sent &&
                   stored == static_cast<std::int64_t>(expected) && integrity == "ok" &&
-                  rollups.mismatches == 0 && rollups.buckets > 0 && exit_code == 0;
+                  rollups.mismatches == 0 && rollups.buckets > 0 && days.mismatches == 0 &&
+                  days.buckets > 0 && exit_code == 0;
 
   std::printf("### Crash: SIGKILL under load (`kill_restart %s %d`)\n\n", binary.c_str(), kills);
   std::printf("- %d kills and restarts in %.1f s of load from %d nodes x %d channels "
@@ -115,6 +118,8 @@ int Main(int argc, char** argv) {
   std::printf("- PRAGMA integrity_check: %s\n", integrity.c_str());
   std::printf("- rollups vs recomputation from raw: %d buckets of %d circuits, %d mismatches\n",
               rollups.buckets, kNodes * kChannels, rollups.mismatches);
+  std::printf("- daily rollups vs recomputation from raw: %d circuit-days, %d mismatches\n",
+              days.buckets, days.mismatches);
   std::printf("- final SIGTERM: exit %d\n", exit_code);
   std::printf("- result: %s\n\n", ok ? "PASS" : "FAIL");
   if (!ok) std::fprintf(stderr, "serve log:\n%s\n", ReadText(site.log_path()).c_str());

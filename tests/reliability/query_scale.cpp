@@ -6,6 +6,7 @@
 // readings (every row read and summed into the API's day boundaries). Prints both times and
 // their ratio (target: the API at least 100 times faster; reported, not asserted) and checks
 // that the answers agree.
+// Also times one /v1/energy request for every circuit over the whole range.
 // Run on demand (tests/reliability/run.sh runs it): query_scale AMPLEDGER_BINARY [days]
 #include <httplib.h>
 
@@ -156,6 +157,12 @@ int Main(int argc, char** argv) {
   }
   const double api_seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - api_started).count();
+  // Every circuit's energy over the whole range in one /v1/energy request.
+  const auto energy_started = std::chrono::steady_clock::now();
+  auto energy = api.Get("/v1/energy?from=" + UtcRfc3339(from_ms) + "&to=" + UtcRfc3339(to_ms));
+  const double energy_seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - energy_started).count();
+  const bool energy_ok = energy && energy->status == 200;
   const int exit_code = site.Stop();
 
   // The same from raw readings: read every row, place it in its day, sum its energy (each
@@ -197,7 +204,7 @@ int Main(int argc, char** argv) {
     }
   }
   const double ratio = api_seconds > 0 ? raw_seconds / api_seconds : 0;
-  const bool ok = api_ok && exit_code == 0 && compared == static_cast<int>(config->circuits.size()) *
+  const bool ok = api_ok && energy_ok && exit_code == 0 && compared == static_cast<int>(config->circuits.size()) *
                                                              static_cast<int>(day_starts.size()) &&
                   differ == 0 && compared > 0;
 
@@ -210,6 +217,8 @@ int Main(int argc, char** argv) {
               "days): %.3f s\n",
               config->circuits.size(), day_starts.size(), api_seconds);
   std::printf("- the same from every raw reading in the same run: %.3f s\n", raw_seconds);
+  std::printf("- /v1/energy, every circuit over the whole range, one request: %.3f s (%s)\n",
+              energy_seconds, energy_ok ? "200" : "FAILED");
   std::printf("- ratio %.0fx (target >= 100x: %s); %d day totals compared, %d differ\n", ratio,
               ratio >= 100 ? "met" : "NOT met", compared, differ);
   std::printf("- result: %s\n\n", ok ? "PASS" : "FAIL");

@@ -163,8 +163,11 @@ struct NodeTotals {
 // Node n of `site`: one pack of every channel (real power, current, energy register) every
 // `every` while `running`, with times of consecutive 1-second intervals from `first_end_ms`;
 // keeps and resends the unacknowledged; then waits up to 60 s for every acknowledgement.
+// `paced`: pack k goes out at start + k x `every` (a steady rate, as a node's clock keeps),
+// rather than `every` after the previous send.
 inline NodeTotals RunNode(int n, int udp_port, UnixMs first_end_ms,
-                          std::chrono::microseconds every, const std::atomic<bool>& running) {
+                          std::chrono::microseconds every, const std::atomic<bool>& running,
+                          bool paced = false) {
   NodeTotals totals;
   NodeClientOptions options;
   options.node = NodeId(n);
@@ -175,6 +178,7 @@ inline NodeTotals RunNode(int n, int udp_port, UnixMs first_end_ms,
   NodeClient& node = **client;
   std::uint32_t seq = 0;
   double register_j[kChannels + 1] = {};
+  const auto started = std::chrono::steady_clock::now();
   while (running.load()) {
     ++seq;
     NodePack pack{NodeId(n), 1, seq, static_cast<std::int32_t>(kIntervalMs), {}};
@@ -198,7 +202,11 @@ inline NodeTotals RunNode(int n, int udp_port, UnixMs first_end_ms,
     if (node.unacked() + node.acked() > held) ++totals.packs;
     node.PollAcks(0);
     node.ResendDue(64);
-    std::this_thread::sleep_for(every);
+    if (paced) {
+      std::this_thread::sleep_until(started + every * seq);
+    } else {
+      std::this_thread::sleep_for(every);
+    }
   }
   const auto until = std::chrono::steady_clock::now() + std::chrono::seconds(60);
   while (node.unacked() > 0 && std::chrono::steady_clock::now() < until) {

@@ -96,7 +96,8 @@ TEST_CASE("a schema-2 database migrates to the newest schema, keeping its rows")
   REQUIRE(sqlite3_open(path.c_str(), &raw) == SQLITE_OK);
   REQUIRE(sqlite3_exec(raw,
                        "DROP TABLE main_meter_read; DROP TABLE webhook_outbox; "
-                       "DROP TABLE alert_event; DROP TABLE alert; DROP TABLE main_meter_interval; "
+                       "DROP TABLE alert_event; DROP TABLE alert; DROP TABLE rollup_day; "
+                       "DROP TABLE rollup_day_zone; DROP TABLE main_meter_interval; "
                        "PRAGMA user_version = 2;",
                        nullptr, nullptr, nullptr) == SQLITE_OK);
   sqlite3_close(raw);
