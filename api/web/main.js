@@ -2,12 +2,12 @@
 // tab only), learns what the token may see, then keeps the panels fresh. A token given in the
 // address's fragment (#token=..., as `ampledger demo` prints it) is taken and cleared from the
 // address bar; the fragment never reaches the server.
+import { AlertsPanel } from './alerts_panel.js';
 import { Api } from './api.js';
 import { siteFormat } from './dom.js';
 import { HistoryPanel } from './history_panel.js';
 import { NodesPanel } from './nodes_panel.js';
 import { NowPanel } from './now_panel.js';
-import { showPlannedPanels } from './planned_panels.js';
 import { SiteTime, rfc3339 } from './site_time.js';
 
 const TOKEN_KEY = 'ampledger.token';
@@ -15,6 +15,7 @@ const LIVE_EVERY_MS = 5_000;
 const TODAY_EVERY_MS = 60_000;
 const NODES_EVERY_MS = 15_000;
 const HISTORY_EVERY_MS = 120_000;
+const ALERTS_EVERY_MS = 15_000;
 
 function takeToken() {
   const fragment = new URLSearchParams(window.location.hash.slice(1));
@@ -115,7 +116,7 @@ async function start() {
   tick();
   setInterval(tick, 20_000);
 
-  for (const id of ['now', 'circuits', 'history', 'planned']) {
+  for (const id of ['now', 'circuits', 'history', 'alerts', 'events']) {
     document.getElementById(id).hidden = false;
   }
   const now = new NowPanel(api, site);
@@ -124,12 +125,14 @@ async function start() {
   const historyPanel = new HistoryPanel(api, site);
   historyPanel.start();
   setInterval(() => historyPanel.refresh(), HISTORY_EVERY_MS);
+  const alerts = new AlertsPanel(api, site);
+  every(ALERTS_EVERY_MS, () => alerts.refreshAlerts(), 'alerts-status');
+  every(ALERTS_EVERY_MS, () => alerts.refreshEvents(), 'events-status');
   if (site.scope === 'site') {
     document.getElementById('nodes').hidden = false;
     const nodes = new NodesPanel(api);
     every(NODES_EVERY_MS, () => nodes.refresh(), 'node-list');
   }
-  showPlannedPanels(api, site);
 }
 
 start();

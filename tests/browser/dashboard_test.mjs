@@ -12,14 +12,15 @@ import path from 'node:path';
 const [workDir, ampledger, chromiumPath] = process.argv.slice(2);
 const { chromium } = createRequire(path.join(workDir, 'package.json'))('playwright-core');
 
-// Panels whose routes newer daemons add (api/web/planned_panels.js): this daemon answers them
-// 404, which chromium logs as a failed resource; the page must say "not available" instead.
-const PLANNED_ROUTES = [/\/v1\/cost\?/, /\/v1\/tariff\/now$/, /\/v1\/units\/[^/]+\/statements\//];
-// Site-wide routes a unit token is told do not exist; the page asks /v1/site to learn its scope.
-const SITE_WIDE_ROUTES = [/\/v1\/site$/];
+// Answers the page expects and handles, which chromium still logs as failed resources:
+// a unit token is told site-wide routes do not exist (the page asks /v1/site to learn its
+// scope), and a viewer token may not acknowledge (403; the page says which tokens may).
+const UNIT_EXPECTED = [{ status: 404, route: /\/v1\/site$/ }];
+const VIEWER_EXPECTED = [{ status: 403, route: /\/v1\/alerts\/.+\/acknowledge$/ }];
 
 const failures = [];
 const pageErrors = [];  // every page's, printed if a wait fails
+const started = Date.now();
 function check(condition, what) {
   console.log(`${condition ? 'ok  ' : 'FAIL'} ${what}`);
   if (!condition) failures.push(what);
@@ -69,22 +70,30 @@ async function api(base, token, route) {
   return response.json();
 }
 
-// Opens the page in a fresh context (its own sessionStorage) and collects console errors,
-// except the 404s of `allowed404` routes.
-async function openPage(browser, url, allowed404, viewport) {
-  const context = await browser.newContext({ viewport });
+// Opens the page in a fresh context (its own sessionStorage; US English, so amounts are
+// formatted as below) and collects console errors, except the `expected` failed answers.
+async function openPage(browser, url, expected, viewport) {
+  const context = await browser.newContext({ viewport, locale: 'en-US' });
   const page = await context.newPage();
   const errors = [];
   page.on('console', (message) => {
     if (message.type() !== 'error') return;
     const where = message.location().url || '';
-    const expected = message.text().includes('404') && allowed404.some((route) => route.test(where));
-    if (!expected) errors.push(`${message.text()} (${where})`);
+    const known = expected.some(({ status, route }) =>
+      message.text().includes(`status of ${status}`) && route.test(where));
+    if (!known) errors.push(`${message.text()} (${where})`);
   });
   page.on('pageerror', (error) => errors.push(`uncaught: ${error.message}`));
   pageErrors.push(errors);
   await page.goto(url);
   return { context, page, errors };
+}
+
+// No horizontal page scroll: the document is no wider than the viewport.
+async function checkNoSideScroll(page, what) {
+  const [scroll, client] = await page.evaluate(() =>
+    [document.documentElement.scrollWidth, document.documentElement.clientWidth]);
+  check(scroll <= client, `${what}: no horizontal page scroll (${scroll} <= ${client} px)`);
 }
 
 async function main() {
@@ -95,6 +104,7 @@ async function main() {
     args: ['--no-sandbox', '--disable-gpu'] });
   try {
     const url = await ready;
+    console.log(`demo ready after ${Math.round((Date.now() - started) / 1000)} s`);
     const base = new URL(url).origin;
     const viewerToken = new URL(url).hash.replace('#token=', '');
     const unitToken = execFileSync(ampledger, ['token', 'create', '-c', path.join(dir, 'examples', 'duplex.toml'),
@@ -117,7 +127,7 @@ async function main() {
     const { units } = await api(base, viewerToken, '/v1/units');
 
     // The viewer's page: every circuit, a chart with data, live values that move.
-    const viewer = await openPage(browser, url, PLANNED_ROUTES, { width: 1280, height: 900 });
+    const viewer = await openPage(browser, url, VIEWER_EXPECTED, { width: 1280, height: 900 });
     const { page } = viewer;
     await page.waitForFunction((n) => document.querySelectorAll('li.circuit').length === n,
       circuits.length, { timeout: 30_000 });
@@ -145,14 +155,28 @@ async function main() {
       null, { timeout: 30_000 });
     const nodeRows = await page.$$eval('table.nodes tr.node', (rows) => rows.map((r) => r.dataset.node));
     check(nodeRows.length === 3, `node health lists the demo's three nodes (${nodeRows.join(', ')})`);
-    await page.waitForFunction(() => document.querySelectorAll('.planned').length > 0, null, { timeout: 30_000 });
-    const planned = await page.$$eval('.planned', (items) =>
-      items.map((i) => ({ route: i.dataset.route, text: i.textContent, offered: i.classList.contains('offered') })));
-    const lacking = planned.filter((p) => !['/v1/alerts', '/v1/events'].includes(p.route));
-    check(lacking.length > 0 && lacking.every((p) => p.text.includes('Not available on this daemon')),
-      `panels whose routes this daemon lacks say so (${lacking.length})`);
-    check(planned.filter((p) => p.offered).map((p) => p.route).sort().join() === '/v1/alerts,/v1/events',
-      'the alerts and events panels show what their routes answer');
+
+    // Alerts and events as sentences; a viewer token's acknowledge is refused and explained.
+    const { alerts } = await api(base, viewerToken, '/v1/alerts');
+    await page.waitForFunction(() => document.getElementById('alerts-status').textContent !== '',
+      null, { timeout: 30_000 });
+    const alertItems = await page.$$eval('#alert-list li.alert', (items) => items.map((i) => i.dataset.alert));
+    check(alertItems.length === alerts.length && alerts.length > 0,
+      `the active alerts are listed (${alertItems.join(', ')})`);
+    const { events } = await api(base, viewerToken, '/v1/events?limit=1000');
+    await page.waitForFunction(() => document.querySelectorAll('#event-list li.event').length > 0,
+      null, { timeout: 30_000 });
+    const eventTexts = await page.$$eval('#event-list li.event', (items) => items.map((i) => i.textContent));
+    check(events.length > 0 && eventTexts.length === Math.min(events.length, 25)
+      && eventTexts.every((t) => !/[{}"]/.test(t)),
+    `recent events read as sentences, not JSON (${eventTexts.length}; newest: ${eventTexts[0]})`);
+    const unacknowledged = await page.$('#alert-list li.alert button.acknowledge');
+    if (unacknowledged) {
+      await unacknowledged.click();
+      await page.waitForFunction(() => /may only read/.test(
+        document.querySelector('#alert-list .alert-note')?.textContent ?? ''), null, { timeout: 10_000 });
+      check(true, 'a viewer token\'s acknowledge is refused and the page says which tokens may');
+    }
 
     // By circuit: one area per circuit, each with its own fill (colour, or colour and stripes).
     await page.click('#stack-by button:has-text("By circuit")');
@@ -201,15 +225,45 @@ async function main() {
       viewer.errors.length ? `: ${viewer.errors.join('; ')}` : ''}`);
     await viewer.context.close();
 
+    // The viewer's page on a phone: everything fits the width.
+    const phone = await openPage(browser, `${base}/#token=${viewerToken}`, VIEWER_EXPECTED,
+      { width: 390, height: 844 });
+    await phone.page.waitForFunction(() => Number(document.querySelector('svg.stack-chart')?.dataset.points) > 0
+      
+      && document.querySelectorAll('table.nodes tr.node').length > 0, null, { timeout: 30_000 });
+    await phone.page.waitForTimeout(500);
+    await checkNoSideScroll(phone.page, 'the viewer\'s page at 390 px');
+    await phone.page.screenshot({ path: path.join(workDir, 'dashboard-phone.png'), fullPage: true });
+    check(phone.errors.length === 0, `no console errors on the viewer's phone page${
+      phone.errors.length ? `: ${phone.errors.join('; ')}` : ''}`);
+    await phone.context.close();
+
     // A unit token's page, on a phone-sized screen: its unit only.
     const unitUrl = `${base}/#token=${unitToken}`;
-    const unit = await openPage(browser, unitUrl, [...PLANNED_ROUTES, ...SITE_WIDE_ROUTES],
-      { width: 390, height: 844 });
+    const unit = await openPage(browser, unitUrl, UNIT_EXPECTED, { width: 390, height: 844 });
     const own = circuits.filter((c) => c.unit === 'upper');
     await unit.page.waitForFunction((n) => document.querySelectorAll('li.circuit').length === n,
       own.length, { timeout: 30_000 });
     await unit.page.waitForFunction(() => Number(document.querySelector('svg.stack-chart')?.dataset.points) > 0,
       null, { timeout: 30_000 });
+    // The unit may acknowledge its own alerts from the page.
+    const { alerts: unitAlerts } = await api(base, unitToken, '/v1/alerts');
+    const open = unitAlerts.find((a) => !a.acknowledged);
+    check(open !== undefined, `the demo raised an alert the unit may acknowledge (${
+      unitAlerts.map((a) => `${a.rule}/${a.subject.id}`).join(', ')})`);
+    if (open) {
+      const key = `${open.rule}/${open.subject.type}/${open.subject.id}`;
+      await unit.page.waitForFunction((k) => document.querySelector(`li.alert[data-alert="${k}"] button`),
+        key, { timeout: 30_000 });
+      await unit.page.click(`li.alert[data-alert="${key}"] button.acknowledge`);
+      await unit.page.waitForFunction((k) => document.querySelector(`li.alert.seen[data-alert="${k}"]`),
+        key, { timeout: 10_000 });
+      const after = await api(base, viewerToken, '/v1/alerts');
+      const stored = after.alerts.find((a) => `${a.rule}/${a.subject.type}/${a.subject.id}` === key);
+      check(stored?.acknowledged === true && stored.acknowledged_by.startsWith('unit'),
+        `the alert ${key} is acknowledged from the page (by ${stored?.acknowledged_by})`);
+    }
+
     const text = await unit.page.textContent('body');
     const others = [...circuits.filter((c) => c.unit !== 'upper').map((c) => c.name),
       ...units.filter((u) => u.id !== 'upper').map((u) => u.name)];
@@ -218,8 +272,10 @@ async function main() {
     check(leaked.length === 0, `the unit page shows no other unit or circuit${
       leaked.length ? `: ${leaked.join(', ')}` : ''}`);
     check(await unit.page.isHidden('#nodes'), 'the unit page has no site-wide node panel');
-    await unit.page.waitForTimeout(1000);
+    await checkNoSideScroll(unit.page, 'the unit\'s page at 390 px');
+    await unit.page.waitForTimeout(500);
     await unit.page.screenshot({ path: path.join(workDir, 'dashboard-unit-phone.png'), fullPage: true });
+
     check(unit.errors.length === 0, `no console errors on the unit's page${
       unit.errors.length ? `: ${unit.errors.join('; ')}` : ''}`);
     await unit.context.close();
@@ -229,8 +285,8 @@ async function main() {
     await new Promise((resolve) => (daemon.exitCode !== null ? resolve() : daemon.on('exit', resolve)));
     rmSync(dir, { recursive: true, force: true });
   }
-  console.log(failures.length ? `${failures.length} check(s) failed` : 'all checks passed; '
-    + `screenshots in ${workDir}`);
+  console.log(`${failures.length ? `${failures.length} check(s) failed` : 'all checks passed; '
+    + `screenshots in ${workDir}`} (${Math.round((Date.now() - started) / 1000)} s)`);
   process.exit(failures.length ? 1 : 0);
 }
 
