@@ -75,7 +75,7 @@ export class AlertsPanel {
       case 'back':
         return { headline: `${who} reports again`, detail: '' };
       case 'acknowledged':
-        return { headline: `${who}: acknowledged`, detail: event.by ? `By a ${event.by} token.` : '' };
+        return { headline: `${who}: acknowledged`, detail: event.by ? `By ${event.by}.` : '' };
       case 'silenced':
         return { headline: `${who}: ${v.until ? 'notifications paused' : 'notifications resumed'}`,
           detail: v.until ? `No webhook calls until ${this.when(v.until)}.` : '' };
@@ -104,7 +104,7 @@ export class AlertsPanel {
     const note = el('p', { class: 'alert-note', role: 'status' });
     const acknowledged = alert.acknowledged
       ? `Acknowledged ${alert.acknowledged_ms ? this.when(alert.acknowledged_ms) : ''}${
-        alert.acknowledged_by ? ` (${alert.acknowledged_by} token)` : ''}.` : '';
+        alert.acknowledged_by ? ` by ${alert.acknowledged_by}` : ''}.` : '';
     const button = alert.acknowledged ? null : el('button', { type: 'button', class: 'acknowledge',
       onclick: () => this.acknowledge(alert, button, note) }, 'Acknowledge');
     return el('li', { class: alert.acknowledged ? 'alert seen' : 'alert', 'data-alert': key },
