@@ -89,11 +89,55 @@ async function openPage(browser, url, expected, viewport) {
   return { context, page, errors };
 }
 
+// Amounts and prices as the page should show them, formatted here by node's own Intl (ICU)
+// as the reference: money with two decimals, prices per kWh with four.
+function money(amount, currency) {
+  return new Intl.NumberFormat('en-US', { style: 'currency', currency, minimumFractionDigits: 2,
+    maximumFractionDigits: 2 }).format(Number(amount));
+}
+function price(perKwh, currency) {
+  return `${new Intl.NumberFormat('en-US', { style: 'currency', currency, minimumFractionDigits: 4,
+    maximumFractionDigits: 4 }).format(Number(perKwh))}/kWh`;
+}
+function clock(ms, zone) {
+  return new Intl.DateTimeFormat('en-US', { timeZone: zone, hour: '2-digit', minute: '2-digit',
+    hourCycle: 'h23' }).format(new Date(ms));
+}
+
 // No horizontal page scroll: the document is no wider than the viewport.
 async function checkNoSideScroll(page, what) {
   const [scroll, client] = await page.evaluate(() =>
     [document.documentElement.scrollWidth, document.documentElement.clientWidth]);
   check(scroll <= client, `${what}: no horizontal page scroll (${scroll} <= ${client} px)`);
+}
+
+// The panels every token sees: cost so far with the projection, and the price now.
+async function checkMoneyPanels(page, base, token, unit) {
+  const cycle = await api(base, token, `/v1/cycles/current${unit ? `?unit=${unit}` : ''}`);
+  await page.waitForFunction(() => /\d/.test(document.getElementById('cost-projected').textContent)
+    && /\d/.test(document.getElementById('cost-today').textContent), null, { timeout: 30_000 });
+  const shown = await page.$$eval('#cycle .tile-value', (tiles) => tiles.map((t) => t.textContent));
+  // The page and this request ask up to a minute apart while live readings arrive (the demo
+  // draws a few kW, a few cents an hour): amounts may differ by some cents.
+  const near = (text, amount) => Math.abs(Number(text.replace(/[^\d.-]/g, '')) - Number(amount)) <= 0.05;
+  const symbol = money(0, cycle.currency).replace(/[\d.,\s-]/g, '');
+  check(near(shown[1], cycle.cost_so_far) && near(shown[2], cycle.projected_cost)
+    && shown.every((text) => text.includes(symbol)),
+  `cost so far and the cycle's projection match /v1/cycles/current (${shown.join(' / ')}; API `
+    + `${money(cycle.cost_so_far, cycle.currency)} / ${money(cycle.projected_cost, cycle.currency)})`);
+  const rate = await api(base, token, '/v1/tariff/now');
+  await page.waitForFunction(() => /kWh/.test(document.getElementById('rate-price')?.textContent ?? ''),
+    null, { timeout: 30_000 });
+  const [period, rateText, change] = await Promise.all(['#rate-period', '#rate-price', '#rate-change']
+    .map((selector) => page.textContent(selector)));
+  check(rateText === price(rate.price_per_kwh, rate.currency) && period.length > 0,
+    `the price now is shown (${period}, ${rateText}; API ${rate.period} ${rate.price_per_kwh})`);
+  check(rate.until === null || (change.includes(clock(Date.parse(rate.until), rate.zone))
+    && change.includes(price(rate.next.price_per_kwh, rate.currency))),
+  `the next price change is shown with its time and price (${change})`);
+  const slots = await page.$$eval('#rate-day li.rate-slot', (items) => items.length);
+  const current = await page.$$eval('#rate-day li.current', (items) => items.length);
+  check(slots > 0 && current === 1, `today's rate periods are listed, the present one marked (${slots})`);
 }
 
 async function main() {
@@ -155,6 +199,7 @@ async function main() {
       null, { timeout: 30_000 });
     const nodeRows = await page.$$eval('table.nodes tr.node', (rows) => rows.map((r) => r.dataset.node));
     check(nodeRows.length === 3, `node health lists the demo's three nodes (${nodeRows.join(', ')})`);
+    await checkMoneyPanels(page, base, viewerToken, null);
 
     // Alerts and events as sentences; a viewer token's acknowledge is refused and explained.
     const { alerts } = await api(base, viewerToken, '/v1/alerts');
@@ -196,11 +241,36 @@ async function main() {
       && document.getElementById('history-status').textContent !== 'Loading…');
     const yearPoints = await page.$eval('svg.stack-chart', (chart) => Number(chart.dataset.points));
     const yearLabel = await page.textContent('#range-label');
+    const yearBands = await page.$eval('svg.stack-chart', (chart) => chart.dataset.bands);
+    const yearNote = await page.textContent('#band-note');
+    check(yearBands === '0' && /up to a month/.test(yearNote),
+      `a year's range has no rate shading and says why (${yearNote})`);
     check(yearPoints > 0 && /per month/.test(yearLabel),
       `the chart zooms out to a year in months with data (${yearLabel}: ${yearPoints} points)`);
     await page.click('#range-presets button:has-text("Day")');
     await page.waitForFunction(() => /per quarter hour/.test(document.getElementById('range-label').textContent)
       && document.querySelector('svg.stack-chart').dataset.step === '15m');
+    // The day's rate periods are shaded behind it, as /v1/tariff/periods answers them, and
+    // the day's cost is split by rate period as /v1/energy?by=rate_period answers it.
+    const [dayFromMs, dayToMs] = await page.$eval('svg.stack-chart', (chart) =>
+      [Number(chart.dataset.from), Number(chart.dataset.to)]);
+    const iso = (ms) => new Date(ms).toISOString().replace('.000Z', 'Z');
+    const periods = await api(base, viewerToken, `/v1/tariff/periods?from=${iso(dayFromMs)}&to=${iso(dayToMs)}`);
+    await page.waitForFunction((n) => document.querySelector('svg.stack-chart').dataset.bands === String(n),
+      periods.periods.length, { timeout: 10_000 }).catch(() => {});
+    const dayBands = await page.$eval('svg.stack-chart', (chart) => Number(chart.dataset.bands));
+    const legend = await page.$$eval('#band-legend li', (items) => items.map((i) => i.textContent));
+    check(dayBands > 0 && dayBands === periods.periods.length && legend.length > 0,
+      `the day's rate periods are shaded behind the chart (${dayBands} bands; ${legend.join('; ')})`);
+    const byPeriod = await api(base, viewerToken,
+      `/v1/energy?from=${iso(dayFromMs)}&to=${iso(dayToMs)}&by=rate_period`);
+    await page.waitForFunction(() => document.querySelector('#rate-costs .rate-total'), null, { timeout: 10_000 });
+    const rateRows = await page.$$eval('#rate-costs li[data-period]', (items) => items.map((i) => i.dataset.period));
+    const rateTotal = await page.textContent('#rate-costs .rate-total .rate-cost');
+    const apiTotal = byPeriod.rows.reduce((sum, r) => sum + Number(r.cost), 0);
+    // As above, live readings may add a few cents between the page's request and this one.
+    check(rateRows.length > 0 && Math.abs(Number(rateTotal.replace(/[^\d.-]/g, '')) - apiTotal) <= 0.05,
+      `cost by rate period is listed (${rateRows.join(', ')}: ${rateTotal}; API ${apiTotal.toFixed(4)})`);
     // Dragging across the middle fifth of the day zooms into those hours.
     const dayLabel = await page.textContent('#range-label');
     const box = await (await page.$('svg.stack-chart')).boundingBox();
@@ -219,26 +289,18 @@ async function main() {
     await page.click('#range-presets button:has-text("Day")');
     await page.waitForFunction((before) => document.querySelector('svg.stack-chart').dataset.from === before,
       dayFrom);
-    await page.waitForTimeout(1500);
+    await page.waitForTimeout(500);
     await page.screenshot({ path: path.join(workDir, 'dashboard.png'), fullPage: true });
+    // The same page on a phone: everything fits the width (the chart redraws on resize).
+    await page.setViewportSize({ width: 390, height: 844 });
+    await page.waitForTimeout(800);
+    await checkNoSideScroll(page, 'the viewer\'s page at 390 px');
+    await page.screenshot({ path: path.join(workDir, 'dashboard-phone.png'), fullPage: true });
     check(viewer.errors.length === 0, `no console errors on the viewer's page${
       viewer.errors.length ? `: ${viewer.errors.join('; ')}` : ''}`);
     await viewer.context.close();
 
-    // The viewer's page on a phone: everything fits the width.
-    const phone = await openPage(browser, `${base}/#token=${viewerToken}`, VIEWER_EXPECTED,
-      { width: 390, height: 844 });
-    await phone.page.waitForFunction(() => Number(document.querySelector('svg.stack-chart')?.dataset.points) > 0
-      
-      && document.querySelectorAll('table.nodes tr.node').length > 0, null, { timeout: 30_000 });
-    await phone.page.waitForTimeout(500);
-    await checkNoSideScroll(phone.page, 'the viewer\'s page at 390 px');
-    await phone.page.screenshot({ path: path.join(workDir, 'dashboard-phone.png'), fullPage: true });
-    check(phone.errors.length === 0, `no console errors on the viewer's phone page${
-      phone.errors.length ? `: ${phone.errors.join('; ')}` : ''}`);
-    await phone.context.close();
-
-    // A unit token's page, on a phone-sized screen: its unit only.
+    // A unit token's page, on a phone-sized screen: its unit only, with its statement.
     const unitUrl = `${base}/#token=${unitToken}`;
     const unit = await openPage(browser, unitUrl, UNIT_EXPECTED, { width: 390, height: 844 });
     const own = circuits.filter((c) => c.unit === 'upper');
@@ -246,6 +308,19 @@ async function main() {
       own.length, { timeout: 30_000 });
     await unit.page.waitForFunction(() => Number(document.querySelector('svg.stack-chart')?.dataset.points) > 0,
       null, { timeout: 30_000 });
+    await checkMoneyPanels(unit.page, base, unitToken, 'upper');
+    const current = await api(base, unitToken, '/v1/cycles/current?unit=upper');
+    const statement = await api(base, unitToken, `/v1/units/upper/statements/${current.cycle}`);
+    await unit.page.waitForFunction(() => document.getElementById('statement-total'), null, { timeout: 30_000 });
+    const statementTotal = await unit.page.textContent('#statement-total');
+    const statementText = await unit.page.textContent('#statement');
+    check(statementTotal === money(statement.total, statement.currency)
+      && statementText.includes(statement.notice),
+    `the unit's statement for cycle ${current.cycle} shows its total (${statementTotal}) and the `
+      + 'tenant-billing notice');
+    const cycles = await unit.page.$$eval('#statement-cycle option', (options) => options.map((o) => o.value));
+    check(cycles[0] === current.cycle && cycles.length > 1, `earlier cycles can be chosen (${cycles.slice(0, 3).join(', ')}, ...)`);
+
     // The unit may acknowledge its own alerts from the page.
     const { alerts: unitAlerts } = await api(base, unitToken, '/v1/alerts');
     const open = unitAlerts.find((a) => !a.acknowledged);
@@ -264,18 +339,29 @@ async function main() {
         `the alert ${key} is acknowledged from the page (by ${stored?.acknowledged_by})`);
     }
 
+    // The statement names the shared circuits the unit pays a share of; nothing else does.
     const text = await unit.page.textContent('body');
-    const others = [...circuits.filter((c) => c.unit !== 'upper').map((c) => c.name),
+    const outsideStatement = await unit.page.evaluate(() => [...document.querySelectorAll('body > *, main > *')]
+      .filter((node) => node.id !== 'statement' && node.tagName !== 'MAIN').map((node) => node.textContent).join(' '));
+    const others = [...circuits.filter((c) => c.unit !== 'upper' && c.unit !== null).map((c) => c.name),
       ...units.filter((u) => u.id !== 'upper').map((u) => u.name)];
-    const leaked = others.filter((name) => text.includes(name));
+    const shared = circuits.filter((c) => c.unit === null).map((c) => c.name);
+    const leaked = [...others.filter((name) => text.includes(name)),
+      ...shared.filter((name) => outsideStatement.includes(name))];
     check(own.every((c) => text.includes(c.name)), 'the unit page lists its own circuits');
-    check(leaked.length === 0, `the unit page shows no other unit or circuit${
-      leaked.length ? `: ${leaked.join(', ')}` : ''}`);
+    check(leaked.length === 0, `the unit page shows no other unit, no other unit's circuit, and `
+      + `shared circuits only in its statement${leaked.length ? `: ${leaked.join(', ')}` : ''}`);
     check(await unit.page.isHidden('#nodes'), 'the unit page has no site-wide node panel');
     await checkNoSideScroll(unit.page, 'the unit\'s page at 390 px');
     await unit.page.waitForTimeout(500);
     await unit.page.screenshot({ path: path.join(workDir, 'dashboard-unit-phone.png'), fullPage: true });
 
+    // Printed, the unit's page is its statement alone.
+    await unit.page.emulateMedia({ media: 'print' });
+    const printed = await unit.page.evaluate(() => [...document.querySelectorAll('main > section')]
+      .filter((section) => getComputedStyle(section).display !== 'none').map((section) => section.id));
+    check(printed.join() === 'statement', `printing shows the statement alone (${printed.join(', ')})`);
+    await unit.page.pdf({ path: path.join(workDir, 'statement.pdf'), format: 'A4' });
     check(unit.errors.length === 0, `no console errors on the unit's page${
       unit.errors.length ? `: ${unit.errors.join('; ')}` : ''}`);
     await unit.context.close();
