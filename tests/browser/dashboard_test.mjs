@@ -353,7 +353,7 @@ async function main() {
       + `shared circuits only in its statement${leaked.length ? `: ${leaked.join(', ')}` : ''}`);
     check(await unit.page.isHidden('#nodes'), 'the unit page has no site-wide node panel');
     await checkNoSideScroll(unit.page, 'the unit\'s page at 390 px');
-    await unit.page.waitForTimeout(500);
+    await unit.page.waitForTimeout(300);
     await unit.page.screenshot({ path: path.join(workDir, 'dashboard-unit-phone.png'), fullPage: true });
 
     // Printed, the unit's page is its statement alone.
