@@ -84,8 +84,13 @@ export class AlertsPanel {
     }
   }
 
+  // Redraws only when the alerts changed, so a button is not replaced under a finger and a
+  // note below an alert stays.
   async refreshAlerts() {
     const { alerts } = await this.api.get('/v1/alerts');
+    const seen = JSON.stringify(alerts);
+    if (seen === this.shownAlerts) return;
+    this.shownAlerts = seen;
     const host = document.getElementById('alert-list');
     const status = document.getElementById('alerts-status');
     if (alerts.length === 0) {
@@ -126,7 +131,6 @@ export class AlertsPanel {
       .map((part, k) => (k === 0 ? part : encodeURIComponent(part))).join('/');
     try {
       await this.api.post(path, {});
-      note.textContent = 'Acknowledged.';
       await Promise.all([this.refreshAlerts(), this.refreshEvents()]);
     } catch (error) {
       button.disabled = false;

@@ -215,9 +215,8 @@ async function main() {
     check(events.length > 0 && eventTexts.length === Math.min(events.length, 25)
       && eventTexts.every((t) => !/[{}"]/.test(t)),
     `recent events read as sentences, not JSON (${eventTexts.length}; newest: ${eventTexts[0]})`);
-    const unacknowledged = await page.$('#alert-list li.alert button.acknowledge');
-    if (unacknowledged) {
-      await unacknowledged.click();
+    if (await page.$('#alert-list li.alert button.acknowledge')) {
+      await page.click('#alert-list li.alert button.acknowledge');
       await page.waitForFunction(() => /may only read/.test(
         document.querySelector('#alert-list .alert-note')?.textContent ?? ''), null, { timeout: 10_000 });
       check(true, 'a viewer token\'s acknowledge is refused and the page says which tokens may');
