@@ -49,6 +49,18 @@ inline constexpr int kEventWaitRetryAfterSeconds = 5;
 // so 256 of them stay far below the daemon's memory target.
 inline constexpr int kMaxHttpConnectionThreads = 256;
 
+// The longest range /v1/tariff/periods describes: a month of a chart, at most 2976 quarter
+// hours to evaluate and, for a time-of-use tariff, a few hundred intervals to send.
+inline constexpr UnixMs kMaxTariffPeriodsRangeMs = 31 * 86400 * kMsPerSecond;
+
+// How far /v1/tariff/now looks for the next change of rate: a year and a day, so a seasonal
+// change is found from any day of the year; a tariff with one rate all year has none.
+inline constexpr UnixMs kRateChangeHorizonMs = 366 * 86400 * kMsPerSecond;
+
+// The longest range of main-meter reads one request lists: reads come a few a month, so ten
+// years is a few hundred rows.
+inline constexpr UnixMs kMaxMeterReadRangeMs = 3660LL * 86400 * kMsPerSecond;
+
 // The longest silence one request may set: 30 days.
 inline constexpr double kMaxSilenceSeconds = 30 * 86400;
 

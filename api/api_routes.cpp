@@ -11,11 +11,14 @@
 #include "api/energy_route.h"
 #include "api/health.h"
 #include "api/interop_routes.h"
+#include "api/main_meter_routes.h"
 #include "api/metrics.h"
 #include "api/openapi_document.h"
 #include "api/problem.h"
 #include "api/rfc3339.h"
 #include "api/series_route.h"
+#include "api/statement_routes.h"
+#include "api/tariff_routes.h"
 #include "api/token.h"
 #include "config/wall_clock.h"
 #include "storage/database.h"
@@ -393,13 +396,16 @@ void AddApiRoutes(HttpServer& server, const ApiContext& context) {
                                        const Scope& scope) -> Result<HttpResponse> {
                          if (!site->zone) return site->error;
                          return AnswerEnergy(request, *context.config, *context.series,
-                                             *site->zone, db, scope);
+                                             *site->zone, context.tariffs, db, scope);
                        }));
   server.Route("GET", "/metrics",
                Guarded(context, Reach::kSiteWide,
                        [context](const HttpRequest& request, const Database& db,
                                  const Scope&) { return Metrics(context, db, request); }));
   if (context.alerts != nullptr) AddAlertRoutes(server, context);
+  AddTariffRoutes(server, context);
+  AddStatementRoutes(server, context);
+  AddMainMeterRoutes(server, context);
   AddInteropRoutes(server, context);
 }
 

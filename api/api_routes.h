@@ -19,6 +19,7 @@
 #include "api/http_server.h"
 #include "api/token.h"
 #include "config/config.h"
+#include "daemon/metering/tariff_schedule.h"
 #include "daemon/ingest/ingest_stats.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "storage/alert_recorder.h"
@@ -37,6 +38,9 @@ struct ApiContext {
   const UdpReceiver* receiver;  // for the kernel's drop count
   // The alert rules' recorder: alert and event routes (api/alert_routes.h); nullptr = none.
   AlertRecorder* alerts = nullptr;
+  // The site's tariffs by date (Service::tariffs()); nullptr or empty = the site has none, and
+  // the cost, tariff, cycle and statement routes answer 404 saying so.
+  const TariffSchedule* tariffs = nullptr;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);

@@ -1,9 +1,12 @@
 // api/energy_route.cpp
 #include "api/energy_route.h"
 
+#include <algorithm>
+
 #include "api/access.h"
 #include "api/api_limits.h"
 #include "api/csv.h"
+#include "api/energy_cost.h"
 #include "api/query_parameters.h"
 #include "api/rfc3339.h"
 #include "storage/daily_rollup.h"
@@ -17,7 +20,7 @@ using nlohmann::json;
 EnergyRow SumRow(const Config& config, std::string id, std::string name,
                  const std::vector<int>& positions, const std::vector<int>& visible,
                  const std::vector<std::vector<CircuitBucket>>& buckets, const TimeRange& range) {
-  EnergyRow row{std::move(id), std::move(name), {}, {}, {}};
+  EnergyRow row{std::move(id), std::move(name), {}, {}, {}, 0, false, Quality::kMeasured, {}};
   std::vector<std::vector<CircuitBucket>> drawn, exported;
   for (int position : positions) {
     const int circuit = visible[position];
@@ -44,8 +47,9 @@ Result<EnergyGrouping> ParseGrouping(const HttpRequest& request) {
   const std::string* by = request.Query("by");
   if (by == nullptr || *by == "circuit") return EnergyGrouping::kCircuit;
   if (*by == "unit") return EnergyGrouping::kUnit;
+  if (*by == "rate_period") return EnergyGrouping::kRatePeriod;
   return Status::InvalidArgument("query parameter \"by\": \"" + *by +
-                                 "\" is not circuit or unit");
+                                 "\" is not circuit, unit or rate_period");
 }
 
 // Both bounds on a 15-minute boundary, in order, at most kMaxEnergyRangeMs apart.
@@ -68,6 +72,50 @@ Status CheckRange(UnixMs from_ms, UnixMs to_ms) {
   }
   return Status::Ok();
 }
+
+// Each row's cost: the energy charge of its consumption circuits' buckets.
+Status PriceRows(const Config& config, const TariffSchedule& schedule, const LocalTime& zone,
+                 const std::vector<int>& visible,
+                 const std::vector<std::vector<CircuitBucket>>& buckets,
+                 std::vector<EnergyRow>& rows) {
+  for (EnergyRow& row : rows) {
+    std::vector<std::vector<CircuitBucket>> own;
+    bool consumes = false;
+    for (int circuit : row.circuits) {
+      const size_t position = std::find(visible.begin(), visible.end(), circuit) - visible.begin();
+      own.push_back(buckets[position]);
+      consumes = consumes || config.circuits[circuit].direction != Direction::kExport;
+    }
+    if (!consumes) continue;
+    Result<EnergyCost> cost =
+        PriceBuckets(schedule, zone, ConsumptionBuckets(config, row.circuits, own));
+    if (!cost.ok()) return cost.status();
+    row.cost = cost->cost;
+  }
+  return Status::Ok();
+}
+
+// One row per rate period: the consumption circuits of `visible` priced together.
+Result<std::vector<EnergyRow>> RatePeriodRows(
+    const Config& config, const TariffSchedule& schedule, const LocalTime& zone,
+    const std::vector<int>& visible, const std::vector<std::vector<CircuitBucket>>& buckets,
+    const TimeRange& range) {
+  Result<EnergyCost> cost =
+      PriceBuckets(schedule, zone, ConsumptionBuckets(config, visible, buckets));
+  if (!cost.ok()) return cost.status();
+  std::vector<EnergyRow> rows;
+  for (const PeriodCost& period : cost->periods) {
+    EnergyRow row{period.period, period.period, {}, {}, {}, 0, false, Quality::kMeasured, {}};
+    row.consumption.period = row.exported.period = range;
+    row.consumption.real_wh = period.kwh * 1000;
+    row.has_data = true;
+    row.cost = period.cost;
+    rows.push_back(std::move(row));
+  }
+  return rows;
+}
+
+json CostValue(const EnergyRow& row) { return row.cost ? json(*row.cost) : json(nullptr); }
 
 std::string CsvValue(const json& value) {
   if (value.is_null()) return "";
@@ -115,8 +163,17 @@ std::vector<EnergyRow> GroupEnergy(const Config& config, const Scope& scope,
   return rows;
 }
 
-std::vector<EnergyColumn> EnergyColumns(const Config& config, EnergyGrouping grouping) {
+std::vector<EnergyColumn> EnergyColumns(const Config& config, EnergyGrouping grouping,
+                                        bool priced) {
   std::vector<EnergyColumn> columns;
+  if (grouping == EnergyGrouping::kRatePeriod) {
+    columns.push_back({"period", "", [](const EnergyRow& row) { return json(row.id); }});
+    columns.push_back({"kwh", "kWh", [](const EnergyRow& row) {
+                         return json(row.consumption.real_wh / 1000.0);
+                       }});
+    columns.push_back({"cost", config.site.currency.c_str(), CostValue});
+    return columns;
+  }
   if (grouping == EnergyGrouping::kCircuit) {
     columns.push_back({"circuit", "", [](const EnergyRow& row) { return json(row.id); }});
     columns.push_back({"name", "", [](const EnergyRow& row) { return json(row.name); }});
@@ -156,12 +213,14 @@ std::vector<EnergyColumn> EnergyColumns(const Config& config, EnergyGrouping gro
   columns.push_back({"quality", "", [](const EnergyRow& row) {
                        return row.has_data ? json(QualityName(row.quality)) : json(nullptr);
                      }});
+  if (priced) columns.push_back({"cost", config.site.currency.c_str(), CostValue});
   return columns;
 }
 
 Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& config,
                                   const SeriesMap& series, const LocalTime& zone,
-                                  const Database& db, const Scope& scope) {
+                                  const TariffSchedule* tariffs, const Database& db,
+                                  const Scope& scope) {
   if (Status known = CheckParameters(request, {"from", "to", "by", "format"}); !known.ok()) {
     return known;
   }
@@ -174,15 +233,34 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
   if (!grouping.ok()) return grouping.status();
   Result<bool> csv = WantsCsv(request);
   if (!csv.ok()) return csv.status();
+  const TariffSchedule* schedule = tariffs != nullptr && !tariffs->empty() ? tariffs : nullptr;
+  if (*grouping == EnergyGrouping::kRatePeriod && schedule == nullptr) {
+    return Status::InvalidArgument("query parameter \"by\": rate_period needs a site tariff "
+                                   "(site.tariff in the config), and this site has none");
+  }
 
   const std::vector<int> visible = VisibleCircuits(config, scope);
   Result<std::vector<std::vector<CircuitBucket>>> buckets =
       ReadDaysAndBucketsForCircuits(db, series, zone, visible, *from, *to);
   if (!buckets.ok()) return buckets.status();
   const TimeRange range{*from, *to};
-  const std::vector<EnergyRow> rows =
-      GroupEnergy(config, scope, *grouping, visible, *buckets, range);
-  const std::vector<EnergyColumn> columns = EnergyColumns(config, *grouping);
+  std::vector<EnergyRow> rows;
+  if (*grouping == EnergyGrouping::kRatePeriod) {
+    Result<std::vector<EnergyRow>> periods =
+        RatePeriodRows(config, *schedule, zone, visible, *buckets, range);
+    if (!periods.ok()) return periods.status();
+    rows = std::move(periods).value();
+  } else {
+    rows = GroupEnergy(config, scope, *grouping, visible, *buckets, range);
+    if (schedule != nullptr) {
+      if (Status priced = PriceRows(config, *schedule, zone, visible, *buckets, rows);
+          !priced.ok()) {
+        return priced;
+      }
+    }
+  }
+  const std::vector<EnergyColumn> columns =
+      EnergyColumns(config, *grouping, schedule != nullptr);
   const std::string from_text = FormatLocalRfc3339(zone, *from);
   const std::string to_text = FormatLocalRfc3339(zone, *to);
 
@@ -208,22 +286,28 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
   for (const EnergyColumn& column : columns) {
     if (*column.unit) units[column.name] = column.unit;
   }
-  double consumption_wh = 0, export_wh = 0;
+  double consumption_wh = 0, export_wh = 0, cost = 0;
   for (const EnergyRow& row : rows) {
     json entry = json::object();
     for (const EnergyColumn& column : columns) entry[column.name] = column.value(row);
     out.push_back(std::move(entry));
     consumption_wh += row.consumption.real_wh;
     export_wh += row.exported.real_wh;
+    cost += row.cost.value_or(0);
   }
-  json body = {{"by", *grouping == EnergyGrouping::kCircuit ? "circuit" : "unit"},
+  const char* by = *grouping == EnergyGrouping::kCircuit ? "circuit"
+                   : *grouping == EnergyGrouping::kUnit  ? "unit"
+                                                         : "rate_period";
+  json total = {{"consumption_kwh", consumption_wh / 1000.0}, {"export_kwh", export_wh / 1000.0}};
+  if (schedule != nullptr) total["cost"] = cost;
+  json body = {{"by", by},
                {"from", from_text},
                {"to", to_text},
                {"time_zone", zone.zone_name()},
                {"units", units},
                {"rows", out},
-               {"total", {{"consumption_kwh", consumption_wh / 1000.0},
-                          {"export_kwh", export_wh / 1000.0}}}};
+               {"total", total}};
+  if (schedule != nullptr) body["currency"] = config.site.currency;
   return HttpResponse::Json(body.dump());
 }
 

@@ -1,12 +1,11 @@
 // daemon/meter_read_command.cpp
 #include "daemon/meter_read_command.h"
 
-#include <date/tz.h>
-
 #include <cstdio>
 #include <ostream>
 
 #include "api/rfc3339.h"
+#include "api/site_time_text.h"
 #include "config/config.h"
 #include "config/wall_clock.h"
 #include "daemon/site_database.h"
@@ -16,48 +15,11 @@
 namespace ampledger {
 namespace {
 
-constexpr std::size_t kMaxSourceBytes = 200;  // a note, not a document
-
-// `text` as an instant: RFC 3339 with an offset, or local wall time in `zone_name`.
-Result<UnixMs> ParseTime(const std::string& text, const std::string& zone_name) {
-  if (std::optional<UnixMs> instant = ParseRfc3339(text)) return *instant;
-  int y = 0, mo = 0, d = 0, h = 0, mi = 0, used = 0;
-  char separator = 0;
-  bool has_time = std::sscanf(text.c_str(), "%4d-%2d-%2d%c%2d:%2d%n", &y, &mo, &d, &separator,
-                              &h, &mi, &used) == 6 &&
-                  (separator == ' ' || separator == 'T') && used == int(text.size());
-  bool date_only = !has_time &&
-                   std::sscanf(text.c_str(), "%4d-%2d-%2d%n", &y, &mo, &d, &used) == 3 &&
-                   used == int(text.size());
-  date::year_month_day day = date::year{y} / mo / d;
-  if ((!has_time && !date_only) || !day.ok() || h > 23 || mi > 59 || h < 0 || mi < 0) {
-    return Status::InvalidArgument(
-        "\"" + text + "\" is not a time: give RFC 3339 with an offset "
-        "(2026-03-05T08:10:00-06:00), local \"2026-03-05 08:10\" or a date \"2026-03-05\"");
-  }
-  date::local_time<std::chrono::minutes> local =
-      date::local_days{day} + std::chrono::hours{h} + std::chrono::minutes{mi};
-  try {
-    const date::time_zone* zone = date::locate_zone(zone_name);
-    auto utc = zone->to_sys(local);  // throws for a time the clocks skip or show twice
-    return static_cast<UnixMs>(
-        std::chrono::duration_cast<std::chrono::milliseconds>(utc.time_since_epoch()).count());
-  } catch (const date::nonexistent_local_time&) {
-    return Status::InvalidArgument("\"" + text + "\" does not exist in " + zone_name +
-                                   " (the clocks skip it)");
-  } catch (const date::ambiguous_local_time&) {
-    return Status::InvalidArgument("\"" + text + "\" happens twice in " + zone_name +
-                                   "; give it in RFC 3339 with its offset");
-  } catch (const std::exception& error) {
-    return Status::InvalidArgument(zone_name + ": " + error.what());
-  }
-}
-
 // The read the options describe, or what is wrong with them.
 Result<MainMeterRead> ReadFromOptions(const MeterReadOptions& options, const Config& config) {
   MainMeterRead read;
   read.source = options.source;
-  if (options.source.empty() || options.source.size() > kMaxSourceBytes ||
+  if (options.source.empty() || options.source.size() > kMaxMeterSourceBytes ||
       options.source.find_first_of("\r\n") != std::string::npos) {
     return Status::InvalidArgument("--source: 1 to 200 bytes on one line");
   }
@@ -73,7 +35,7 @@ Result<MainMeterRead> ReadFromOptions(const MeterReadOptions& options, const Con
     if (options.at.empty() || !options.from.empty() || !options.to.empty()) {
       return Status::InvalidArgument("--register needs --at TIME, and no --from or --to");
     }
-    Result<UnixMs> at = ParseTime(options.at, zone);
+    Result<UnixMs> at = ParseSiteTime(options.at, zone);
     if (!at.ok()) return Status::InvalidArgument("--at: " + at.status().message());
     read.at_ms = *at;
     read.kwh = *options.register_kwh;
@@ -82,9 +44,9 @@ Result<MainMeterRead> ReadFromOptions(const MeterReadOptions& options, const Con
   if (options.from.empty() || options.to.empty() || !options.at.empty()) {
     return Status::InvalidArgument("--kwh needs --from TIME and --to TIME, and no --at");
   }
-  Result<UnixMs> from = ParseTime(options.from, zone);
+  Result<UnixMs> from = ParseSiteTime(options.from, zone);
   if (!from.ok()) return Status::InvalidArgument("--from: " + from.status().message());
-  Result<UnixMs> to = ParseTime(options.to, zone);
+  Result<UnixMs> to = ParseSiteTime(options.to, zone);
   if (!to.ok()) return Status::InvalidArgument("--to: " + to.status().message());
   read.kind = MeterReadKind::kPeriod;
   read.period_start_ms = *from;

@@ -121,6 +121,7 @@ class ServiceImpl {
     ApiContext api{&config_, &series_, config_.storage.path, writer_.get(), &stats_,
                    receiver_.get()};
     api.alerts = alerts_.get();
+    api.tariffs = &tariffs_;
     AddApiRoutes(http_, api);
     AddWebRoutes(http_);
     WebhookSenderOptions sender_options;

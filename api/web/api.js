@@ -12,6 +12,7 @@ export class ApiError extends Error {
   // not see it; the API answers both alike.
   get absent() { return this.status === 404; }
   get unauthorized() { return this.status === 401; }
+  get forbidden() { return this.status === 403; }
 }
 
 export class Api {
@@ -21,23 +22,32 @@ export class Api {
 
   // GET `path` (with `query` parameters) as JSON; throws ApiError.
   async get(path, query = {}) {
+    return this.send('GET', path, query);
+  }
+
+  // POST `path` with a JSON `body`; throws ApiError.
+  async post(path, body = {}) {
+    return this.send('POST', path, {}, body);
+  }
+
+  async send(method, path, query, body) {
     const url = new URL(path, window.location.origin);
     for (const [name, value] of Object.entries(query)) url.searchParams.set(name, value);
+    const headers = { Authorization: `Bearer ${this.token}`, Accept: 'application/json' };
+    if (body !== undefined) headers['Content-Type'] = 'application/json';
     let response;
     try {
-      response = await fetch(url, {
-        headers: { Authorization: `Bearer ${this.token}`, Accept: 'application/json' },
-        cache: 'no-store',
-      });
+      response = await fetch(url, { method, headers, cache: 'no-store',
+        body: body === undefined ? undefined : JSON.stringify(body) });
     } catch (error) {
       throw new ApiError(0, 'unreachable', `the daemon did not answer (${error.message})`);
     }
     const type = response.headers.get('Content-Type') || '';
-    const body = type.includes('json') ? await response.json().catch(() => null) : null;
+    const answer = type.includes('json') ? await response.json().catch(() => null) : null;
     if (!response.ok) {
-      throw new ApiError(response.status, body?.title, body?.detail);
+      throw new ApiError(response.status, answer?.title, answer?.detail);
     }
-    if (body === null) throw new ApiError(response.status, 'not JSON', `${path} did not answer JSON`);
-    return body;
+    if (answer === null) throw new ApiError(response.status, 'not JSON', `${path} did not answer JSON`);
+    return answer;
   }
 }

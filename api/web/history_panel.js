@@ -1,7 +1,10 @@
 // history_panel.js: the stacked history chart, by unit or by circuit, over a range from a few
 // hours to a year. The step follows the range (site_time.js stepForRange), and every range is
-// moved onto the step's boundaries in the site's zone, as the series routes require.
+// moved onto the step's boundaries in the site's zone, as the series routes require. The
+// tariff's rate periods are shaded behind ranges of up to a month (rate_periods.js), and the
+// range's cost is split by rate period below the chart.
 import { el, siteFormat } from './dom.js';
+import { bandLegend, loadBands, rateCosts } from './rate_periods.js';
 import { DAY, rfc3339, stepForRange } from './site_time.js';
 import { StackChart } from './stack_chart.js';
 
@@ -117,9 +120,14 @@ export class HistoryPanel {
     status.textContent = 'Loading…';
     const query = { from: rfc3339(from), to: rfc3339(to), step };
     const subjects = this.subjects();
+    const bandsLoaded = loadBands(this.api, this.site, from, to).catch((error) => ({ bands: [],
+      note: `Rate periods could not be loaded: ${error.message}` }));
+    this.showRateCosts(from, to, bandsLoaded, generation);
     let answers;
+    let bands;
     try {
-      answers = await Promise.all(subjects.map((s) => this.api.get(s.path, query)));
+      [answers, bands] = await Promise.all([
+        Promise.all(subjects.map((s) => this.api.get(s.path, query))), bandsLoaded]);
     } catch (error) {
       if (generation === this.generation) status.textContent = `Could not load history: ${error.message}`;
       return;
@@ -135,9 +143,24 @@ export class HistoryPanel {
         hasData: p.quality !== null,
       })),
     }));
-    this.chart.draw({ from, to, step, zone: this.site.zone, series });
+    this.chart.draw({ from, to, step, zone: this.site.zone, series, bands: bands.bands });
+    document.getElementById('band-legend').replaceChildren(...bandLegend(bands));
+    document.getElementById('band-note').textContent = bands.note;
     const covered = series.flatMap((s) => s.points).filter((p) => p.hasData).length;
     status.textContent = covered === 0 ? '' : `Times are site time (${this.site.zone}).`;
+  }
+
+  // Energy and cost of the range by rate period, under the chart.
+  async showRateCosts(from, to, bandsLoaded, generation) {
+    const host = document.getElementById('rate-costs');
+    let shown;
+    try {
+      const { shades = {} } = await bandsLoaded;
+      shown = await rateCosts(this.api, this.site, from, to, shades);
+    } catch (error) {
+      shown = [el('p', { class: 'quiet' }, `Cost by rate period could not be loaded: ${error.message}`)];
+    }
+    if (generation === this.generation) host.replaceChildren(...shown);
   }
 
   // Reloads the current range if it reaches the present (new readings may have arrived).

@@ -2,19 +2,24 @@
 // tab only), learns what the token may see, then keeps the panels fresh. A token given in the
 // address's fragment (#token=..., as `ampledger demo` prints it) is taken and cleared from the
 // address bar; the fragment never reaches the server.
+import { AlertsPanel } from './alerts_panel.js';
 import { Api } from './api.js';
+import { CyclePanel } from './cycle_panel.js';
 import { siteFormat } from './dom.js';
 import { HistoryPanel } from './history_panel.js';
 import { NodesPanel } from './nodes_panel.js';
 import { NowPanel } from './now_panel.js';
-import { showPlannedPanels } from './planned_panels.js';
+import { RatePanel } from './rate_panel.js';
 import { SiteTime, rfc3339 } from './site_time.js';
+import { StatementPanel } from './statement_panel.js';
 
 const TOKEN_KEY = 'ampledger.token';
 const LIVE_EVERY_MS = 5_000;
 const TODAY_EVERY_MS = 60_000;
 const NODES_EVERY_MS = 15_000;
 const HISTORY_EVERY_MS = 120_000;
+const ALERTS_EVERY_MS = 15_000;
+const MONEY_EVERY_MS = 60_000;
 
 function takeToken() {
   const fragment = new URLSearchParams(window.location.hash.slice(1));
@@ -56,7 +61,7 @@ async function zoneFromSeries(api, circuit) {
   return answer.time_zone;
 }
 
-// What this token sees: {scope: 'site'|'unit', name, zone, time, circuits, units}.
+// What this token sees: {scope: 'site'|'unit', priced, name, zone, time, circuits, units}.
 async function learnSite(api) {
   let siteInfo = null;
   try {
@@ -67,8 +72,14 @@ async function learnSite(api) {
   const [{ circuits }, { units }] = await Promise.all([api.get('/v1/circuits'), api.get('/v1/units')]);
   const zone = siteInfo ? siteInfo.time_zone
     : circuits.length ? await zoneFromSeries(api, circuits[0]) : 'UTC';
+  // Whether the site has a tariff: without one the price and cost routes answer 404.
+  const priced = await api.get('/v1/tariff/now').then(() => true, (error) => {
+    if (error.absent) return false;
+    throw error;
+  });
   return {
     scope: siteInfo ? 'site' : 'unit',
+    priced,
     name: siteInfo ? siteInfo.name : (units[0]?.name || units[0]?.id || 'ampledger'),
     zone,
     time: new SiteTime(zone),
@@ -115,21 +126,32 @@ async function start() {
   tick();
   setInterval(tick, 20_000);
 
-  for (const id of ['now', 'circuits', 'history', 'planned']) {
+  for (const id of ['now', 'cycle', 'rate', 'circuits', 'history', 'alerts', 'events']) {
     document.getElementById(id).hidden = false;
   }
   const now = new NowPanel(api, site);
   every(LIVE_EVERY_MS, () => now.refreshLive(), 'now-status');
   every(TODAY_EVERY_MS, () => now.refreshToday(Date.now()), 'now-status');
+  const cycle = new CyclePanel(api, site);
+  every(MONEY_EVERY_MS, () => cycle.refresh(Date.now()), 'cycle-status');
+  const rate = new RatePanel(api, site);
+  every(MONEY_EVERY_MS, () => rate.refresh(Date.now()), 'rate-status');
   const historyPanel = new HistoryPanel(api, site);
   historyPanel.start();
   setInterval(() => historyPanel.refresh(), HISTORY_EVERY_MS);
+  const alerts = new AlertsPanel(api, site);
+  every(ALERTS_EVERY_MS, () => alerts.refreshAlerts(), 'alerts-status');
+  every(ALERTS_EVERY_MS, () => alerts.refreshEvents(), 'events-status');
   if (site.scope === 'site') {
     document.getElementById('nodes').hidden = false;
     const nodes = new NodesPanel(api);
     every(NODES_EVERY_MS, () => nodes.refresh(), 'node-list');
+  } else if (site.units.length > 0) {
+    document.getElementById('statement').hidden = false;
+    new StatementPanel(api, site).start().catch((error) => {
+      document.getElementById('statement-status').textContent = `Could not load: ${error.message}`;
+    });
   }
-  showPlannedPanels(api, site);
 }
 
 start();

@@ -4,6 +4,8 @@
 // --series-N) and a hatch (0 none, 1 or 2 stripes), so series beyond the palette's seven are
 // still told apart. The chart is drawn at the width it is shown at, so its text stays readable
 // on a phone.
+// Rate periods (view.bands) are shaded behind the areas in grey tints of their own, each named
+// in the band legend, so the shading needs no colour vision either.
 // Dragging across the plot asks for that range (onZoom); moving over it reads out a period.
 import { el, svg, formatKwh, formatWatts, formatWh, siteFormat } from './dom.js';
 
@@ -32,7 +34,8 @@ export class StackChart {
   }
 
   // view: {from, to, step, zone, series: [{label, direction, colour, hatch, points: [{start,
-  // end, watts, wh, hasData}]}]}; every series has the same periods.
+  // end, watts, wh, hasData}]}], bands: [{from, to, shade (0-3), label}] or absent}; every
+  // series has the same periods.
   draw(view) {
     this.view = view;
     const width = Math.max(320, Math.round(this.frame.clientWidth || 860));
@@ -59,6 +62,7 @@ export class StackChart {
     });
     const defs = svg('defs');
     root.append(defs);
+    this.drawBands(root, view.bands ?? [], height);
     for (const tick of yTicks) {
       root.append(svg('line', { class: tick === 0 ? 'axis-zero' : 'grid', x1: MARGIN.left,
         x2: width - MARGIN.right, y1: y(tick), y2: y(tick) }));
@@ -91,6 +95,7 @@ export class StackChart {
     root.dataset.points = String(pointCount);
     root.dataset.step = view.step;
     root.dataset.from = String(view.from);
+    root.dataset.to = String(view.to);
 
     this.guide = svg('line', { class: 'guide', y1: MARGIN.top, y2: height - MARGIN.bottom,
       visibility: 'hidden' });
@@ -103,6 +108,21 @@ export class StackChart {
     this.readout.textContent = pointCount === 0
       ? 'No readings stored in this range.'
       : 'Move over the chart to read a period; drag across it to zoom in.';
+  }
+
+  // Rate periods as tinted columns behind everything, clipped to the plot.
+  drawBands(root, bands, height) {
+    let drawn = 0;
+    for (const band of bands) {
+      const x1 = Math.max(MARGIN.left, this.x(band.from));
+      const x2 = Math.min(this.width - MARGIN.right, this.x(band.to));
+      if (x2 <= x1) continue;
+      root.append(svg('rect', { class: `band band-${band.shade}`, x: x1, width: x2 - x1,
+        y: MARGIN.top, height: height - MARGIN.top - MARGIN.bottom, 'data-period': band.label },
+      svg('title', {}, band.label)));
+      drawn += 1;
+    }
+    root.dataset.bands = String(drawn);
   }
 
   drawTimeTicks(root, periods, baseline) {
@@ -188,8 +208,9 @@ export class StackChart {
     const parts = this.view.series
       .filter((s) => s.points[k].wh !== 0)
       .map((s) => `${s.label} ${formatWh(s.points[k].wh)}`);
+    const band = (this.view.bands ?? []).find((b) => b.from <= ms && ms < b.to);
     this.readout.textContent = `${when(points[k].start)}: ${
-      parts.length ? parts.join(' · ') : 'nothing measured'}`;
+      parts.length ? parts.join(' · ') : 'nothing measured'}${band ? ` (rate: ${band.label})` : ''}`;
   }
 }
 

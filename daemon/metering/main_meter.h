@@ -40,6 +40,7 @@ struct MainMeterRead {
 
 // Limits of a read, with their reasons.
 constexpr double kMaxMeterKwh = 1e9;  // 1 TWh: far above any building's register or period
+constexpr std::size_t kMaxMeterSourceBytes = 200;  // `source` is a note, not a document
 
 // Whether `read` may join `existing` (the reads already stored): values are finite and from 0
 // to kMaxMeterKwh, a period ends after it starts; a register read shares its moment with no

@@ -7,232 +7,17 @@
 #include <doctest/doctest.h>
 #include <httplib.h>
 
-#include <chrono>
-#include <future>
+#include <array>
+#include <map>
 #include <regex>
 #include <set>
 #include <nlohmann/json.hpp>
 
-#include "api/rfc3339.h"
-#include "api/token.h"
-#include "storage/queries.h"
-#include "storage/token_store.h"
+#include "api_fixture.h"
 #include "openapi_routes.h"
-#include "test_util.h"
 
 namespace ampledger {
 namespace {
-
-using nlohmann::json;
-
-Config SiteConfig(const testing::TempDir& dir) {
-  // An invented duplex in the US Central zone: unit a has two circuits, unit b one, and the
-  // hall lights belong to no unit.
-  const std::string toml = R"toml(
-[site]
-name = "Maple Row duplex"
-time_zone = "America/Chicago"
-nominal_volts = [120]
-currency = "USD"
-
-[[node]]
-id = "panel"
-key = "00112233445566778899aabbccddeeff00112233445566778899aabbccddeeff"
-[[node.channel]]
-id = "ct1"
-[[node.channel]]
-id = "ct2"
-[[node.channel]]
-id = "ct3"
-[[node.channel]]
-id = "ct4"
-
-[[circuit]]
-id = "a-heat"
-channels = ["panel/ct1"]
-[[circuit]]
-id = "a-kitchen"
-channels = ["panel/ct4"]
-[[circuit]]
-id = "b-heat"
-channels = ["panel/ct2"]
-[[circuit]]
-id = "hall"
-channels = ["panel/ct3"]
-
-[[unit]]
-id = "a"
-circuits = ["a-heat", "a-kitchen"]
-[[unit]]
-id = "b"
-circuits = ["b-heat"]
-
-[storage]
-path = "site.db"
-
-[ingest]
-listen = "127.0.0.1:0"
-
-[http]
-listen = "127.0.0.1:0"
-threads = 2
-)toml";
-  Result<Config> config = ParseConfig(toml, dir.File("site.toml"));
-  REQUIRE_MESSAGE(config.ok(), config.status().ToString());
-  return *config;
-}
-
-UnixMs At(const char* text) { return ParseRfc3339(text).value(); }
-
-constexpr UnixMs kReadingMs = 5 * 60 * 1000;
-
-// Mean power of channel `channel` over the 5-minute interval ending at `end_ms`: a cycling
-// load per channel, so hours differ.
-double Watts(int channel, UnixMs end_ms) {
-  const std::int64_t interval = end_ms / kReadingMs;
-  return 300.0 * (channel + 1) + 40.0 * ((interval / 7) % 5);
-}
-
-// The data: two stretches of 5-minute readings around America/Chicago's DST changes of 2026
-// (IANA tz: 2026-03-08 and 2026-11-01), and one recent reading per channel for /v1/live.
-const std::vector<TimeRange>& Stretches() {
-  static const std::vector<TimeRange> kStretches = {
-      {At("2026-03-07T00:00:00-06:00"), At("2026-03-10T00:00:00-05:00")},
-      {At("2026-10-31T00:00:00-05:00"), At("2026-11-03T00:00:00-06:00")},
-  };
-  return kStretches;
-}
-
-// Energy the readings ending in (from, to] carry, Wh: the truth for a bucket-aligned range.
-double TruthWh(int channel, UnixMs from_ms, UnixMs to_ms) {
-  double wh = 0;
-  for (UnixMs end = from_ms + kReadingMs; end <= to_ms; end += kReadingMs) {
-    wh += Watts(channel, end) * kReadingMs / 3.6e6;
-  }
-  return wh;
-}
-
-struct ApiFixture {
-  ApiFixture()
-      : config(SiteConfig(dir)), stats({"panel"}), server(config.http) {
-    db = std::move(Database::Open(config.storage).value());
-    series = RegisterSeries(*db, config).value();
-    WriterOptions options;
-    // A fixed clock shortly after the data, so raw retention never reaches it.
-    options.clock = [] { return At("2026-11-10T00:00:00Z"); };
-    writer = std::move(ReadingWriter::Start(config, db.get(), series, options).value());
-    ReadingBatch batch;
-    for (const TimeRange& stretch : Stretches()) {
-      for (UnixMs end = stretch.start_ms + kReadingMs; end <= stretch.end_ms; end += kReadingMs) {
-        for (int channel = 0; channel < 4; ++channel) batch.readings.push_back(
-            Reading(channel, end, Watts(channel, end)));
-      }
-    }
-    const UnixMs now = std::chrono::duration_cast<std::chrono::milliseconds>(
-                           std::chrono::system_clock::now().time_since_epoch())
-                           .count();
-    for (int channel = 0; channel < 4; ++channel) {
-      batch.readings.push_back(Reading(channel, now - 1000, 100.0 * (channel + 1)));
-    }
-    std::promise<Status> stored;
-    writer->Submit(std::move(batch), [&](const Status& s) { stored.set_value(s); });
-    REQUIRE(stored.get_future().get().ok());
-    writer->Stop();  // writes the open rollup buckets; Health() stays OK
-
-    Result<std::unique_ptr<UdpReceiver>> udp = UdpReceiver::Open(config.ingest);
-    REQUIRE(udp.ok());
-    receiver = std::move(udp).value();
-    tokens_db = std::move(Database::Open(config.storage).value());
-    admin = Issue("admin");
-    viewer = Issue("viewer");
-    unit_a = Issue("unit:a");
-    unit_b = Issue("unit:b");
-    AddApiRoutes(server, ApiContext{&config, &series, config.storage.path, writer.get(), &stats,
-                                    receiver.get()});
-    REQUIRE(server.Start().ok());
-    client = std::make_unique<httplib::Client>("127.0.0.1", server.port());
-    client->set_read_timeout(10);
-  }
-
-  static ChannelReading Reading(int channel, UnixMs end_ms, double watts) {
-    ChannelReading r;
-    r.channel = channel;
-    r.end_ms = end_ms;
-    r.duration_ms = static_cast<std::int32_t>(kReadingMs);
-    r.real_watts = watts;
-    r.apparent_va = watts * 1.1;
-    r.volts = 120;
-    r.amps = r.apparent_va / 120;
-    return r;
-  }
-
-  std::string Issue(const char* scope) {
-    Result<IssuedToken> issued = IssueToken(*tokens_db, *ParseScope(scope), "test", 0);
-    REQUIRE(issued.ok());
-    return issued->token;
-  }
-
-  httplib::Result Get(const std::string& path, const std::string& token,
-                      const std::string& accept = "") {
-    httplib::Headers headers;
-    if (!token.empty()) headers.emplace("Authorization", "Bearer " + token);
-    if (!accept.empty()) headers.emplace("Accept", accept);
-    return client->Get(path.c_str(), headers);
-  }
-
-  json GetJson(const std::string& path, const std::string& token) {
-    httplib::Result result = Get(path, token);
-    REQUIRE(result);
-    REQUIRE_MESSAGE(result->status == 200, (path + ": " + result->body));
-    return json::parse(result->body);
-  }
-
-  // Rollup energy of `circuits` over [from, to) straight from storage, Wh.
-  double RollupWh(const std::vector<int>& circuits, UnixMs from_ms, UnixMs to_ms) {
-    auto reader = std::move(Database::OpenReader(config.storage.path).value());
-    double wh = 0;
-    for (int circuit : circuits) {
-      // Kept in a variable: a range-for over .value() of a temporary would dangle.
-      Result<std::vector<CircuitBucket>> buckets =
-          ReadCircuitBuckets(*reader, series, circuit, from_ms, to_ms);
-      REQUIRE(buckets.ok());
-      for (const CircuitBucket& bucket : *buckets) wh += bucket.real_wh;
-    }
-    return wh;
-  }
-
-  testing::TempDir dir;
-  Config config;
-  IngestStats stats;
-  std::unique_ptr<Database> db;
-  SeriesMap series;
-  std::unique_ptr<ReadingWriter> writer;
-  std::unique_ptr<UdpReceiver> receiver;
-  std::unique_ptr<Database> tokens_db;  // as `ampledger token` would write
-  std::string admin, viewer, unit_a, unit_b;
-  HttpServer server;
-  std::unique_ptr<httplib::Client> client;
-};
-
-// A problem document (RFC 9457) whose status matches the response's.
-json ProblemOf(const httplib::Result& result) {
-  REQUIRE(result);
-  CHECK(result->get_header_value("Content-Type") == "application/problem+json");
-  json problem = json::parse(result->body);
-  CHECK(problem["status"] == result->status);
-  CHECK(problem["type"] == "about:blank");
-  return problem;
-}
-
-const std::string kSpringDay =
-    "from=2026-03-08T00:00:00-06:00&to=2026-03-09T00:00:00-05:00";
-const std::string kFallDay = "from=2026-11-01T00:00:00-05:00&to=2026-11-02T00:00:00-06:00";
-
-std::vector<std::string> Ids(const json& list) {
-  std::vector<std::string> ids;
-  for (const json& entry : list) ids.push_back(entry["id"]);
-  return ids;
-}
 
 TEST_SUITE("api") {
   TEST_CASE_FIXTURE(ApiFixture, "authorization matrix: every route under every scope") {
@@ -255,6 +40,18 @@ TEST_SUITE("api") {
         {"/v1/units/a/series" + q, 200, 200, 200, 404},
         {"/v1/units/b/series" + q, 200, 200, 404, 200},
         {"/v1/energy?" + kSpringDay, 200, 200, 200, 200},
+        {"/v1/energy?" + kSpringDay + "&by=rate_period", 200, 200, 200, 200},
+        // Prices are the same for everyone; a unit token asks about its own unit only.
+        {"/v1/tariff/now", 200, 200, 200, 200},
+        {"/v1/tariff/periods?" + kSpringDay, 200, 200, 200, 200},
+        {"/v1/cycles/current", 200, 200, 200, 200},
+        {"/v1/cycles/current?unit=a", 200, 200, 200, 404},
+        {"/v1/cycles/current?unit=b", 200, 200, 404, 200},
+        {"/v1/units/a/statements/2026-03", 200, 200, 200, 404},
+        {"/v1/units/a/statements/2026-03?format=html", 200, 200, 200, 404},
+        {"/v1/units/b/statements/2026-03?format=csv", 200, 200, 404, 200},
+        {"/v1/bills/2026-03", 200, 200, 404, 404},
+        {"/v1/main-meter/reads?from=2026-01-01&to=2026-12-01", 200, 200, 404, 404},
     };
     for (const Row& row : rows) {
       struct Case {
@@ -274,8 +71,11 @@ TEST_SUITE("api") {
           // Hidden looks exactly like absent: the same problem as an unknown path or id.
           json problem = ProblemOf(result);
           const std::string detail = problem["detail"];
-          const bool series = row.path.find("/series") != std::string::npos;
-          CHECK(detail.rfind(series ? "no " : "no resource at ", 0) == 0);
+          const bool by_id = row.path.find("/series") != std::string::npos ||
+                             row.path.find("/statements/") != std::string::npos ||
+                             row.path.find("unit=") != std::string::npos;
+          CHECK((detail.rfind(by_id ? "no unit" : "no resource at ", 0) == 0 ||
+                 detail.rfind("no circuit", 0) == 0));
         }
       }
       httplib::Result anonymous = Get(row.path, "");
@@ -491,10 +291,43 @@ TEST_SUITE("api") {
          "\"from\": energy is kept per quarter hour"},
         {"/v1/energy?from=2026-03-09&to=2026-03-08", 400, "\"to\": must be later"},
         {"/v1/energy?from=2025-01-01&to=2026-03-08", 400, "longer than 400 days"},
-        {"/v1/energy?" + kSpringDay + "&by=node", 400, "\"by\": \"node\" is not circuit or unit"},
+        {"/v1/energy?" + kSpringDay + "&by=node", 400,
+         "\"by\": \"node\" is not circuit, unit or rate_period"},
         {"/v1/energy?" + kSpringDay + "&step=day", 400, "\"step\": not known here"},
         {"/v1/energy?to=2026-03-09", 400, "\"from\": required"},
         {"/v1/energy?" + kSpringDay + "&from=2026-03-01", 400, "given more than once"},
+        {"/v1/energy?from=2025-01-01&to=2026-03-08&by=rate_period", 400, "longer than 400 days"},
+        // Tariff rates: a moment, or a bounded range on quarter hours.
+        {"/v1/tariff/now?at=noon", 400, "\"at\": \"noon\" is neither"},
+        {"/v1/tariff/now?at=2026-03-08T12:00:00-06:00&at=2026-03-09", 400, "given more than once"},
+        {"/v1/tariff/now?when=2026-03-08", 400, "\"when\": not known here (at)"},
+        {"/v1/tariff/now?at=2026-03-08T12:00:00%27%3B--", 400, "\"at\""},
+        {"/v1/tariff/periods?from=2026-03-09&to=2026-03-08", 400, "\"to\": must be later"},
+        {"/v1/tariff/periods?from=2026-03-01&to=2026-04-02", 400, "longer than 31 days"},
+        {"/v1/tariff/periods?from=2026-03-08T00:10:00-06:00&to=2026-03-09", 400,
+         "\"from\": rates change only on quarter hours"},
+        {"/v1/tariff/periods?to=2026-03-09", 400, "\"from\": required"},
+        // Billing cycles: named YYYY-MM; units by id.
+        {"/v1/cycles/current?unit=zz", 404, "no unit \"zz\""},
+        {"/v1/cycles/current?unit=a%27%20OR%20%271%27=%271", 404, "no unit"},
+        {"/v1/cycles/current?at=yesterday", 400, "\"at\""},
+        {"/v1/cycles/current?unit=a&unit=b", 400, "given more than once"},
+        {"/v1/units/a/statements/2026-13", 400, "\"cycle\": \"2026-13\" is not a billing cycle"},
+        {"/v1/units/a/statements/2026-3", 400, "\"cycle\": \"2026-3\" is not a billing cycle"},
+        {"/v1/units/a/statements/1969-12", 400, "1970-01 or later"},
+        {"/v1/units/a/statements/2026-03%27%3B%20DROP%20TABLE%20rollup%3B--", 400,
+         "is not a billing cycle"},
+        {"/v1/units/a/statements/9999-01", 404, "no billing cycle 9999-01 yet"},
+        {"/v1/units/a/statements/2026-03?format=pdf", 400, "\"format\": \"pdf\" is not json, html, csv"},
+        {"/v1/units/zz/statements/2026-03", 404, "no unit \"zz\""},
+        {"/v1/units/%22%20OR%201=1%20--/statements/2026-03", 404, "no unit"},
+        {"/v1/bills/03-2026", 400, "is not a billing cycle"},
+        {"/v1/bills/2026-03?format=csv", 400, "\"format\": \"csv\" is not json, text"},
+        {"/v1/bills/2026-03?unit=a", 400, "\"unit\": not known here"},
+        // Main-meter reads: a bounded range.
+        {"/v1/main-meter/reads?from=2026-03-09&to=2026-03-08", 400, "\"to\": must be later"},
+        {"/v1/main-meter/reads?from=2000-01-01&to=2026-03-08", 400, "longer than 3660 days"},
+        {"/v1/main-meter/reads?from=2026-03-01", 400, "\"to\": required"},
     };
     for (const Bad& bad : table) {
       CAPTURE(bad.path);
@@ -647,6 +480,92 @@ TEST_SUITE("api") {
     CHECK(empty["rows"][0]["quality"].is_null());
   }
 
+  // The fixture's tariff by hand (tests/api/api_fixture.h): on a weekday, overnight 0.06 from
+  // 00:00 to 06:00, peak 0.25 from 16:00 to 21:00, off-peak 0.10 otherwise; energy charges
+  // leave out the adder, the fixed charge and the tax.
+  static double HandPrice(int local_hour) {
+    return local_hour < 6 ? 0.06 : (local_hour >= 16 && local_hour < 21 ? 0.25 : 0.10);
+  }
+
+  TEST_CASE_FIXTURE(ApiFixture, "energy and cost answers agree with the storage rollups and the "
+                                "tariff engine for the same range") {
+    // Monday 9 March 2026, a CDT day (UTC-5) after the spring change.
+    const UnixMs from = At("2026-03-09T00:00:00-05:00");
+    const UnixMs to = At("2026-03-10T00:00:00-05:00");
+    const LocalTime local = LocalTime::ForZone("America/Chicago").value();
+    auto reader = std::move(Database::OpenReader(config.storage.path).value());
+    json by_circuit = GetJson("/v1/energy?from=2026-03-09&to=2026-03-10", viewer);
+    CHECK(by_circuit["currency"] == "USD");
+    CHECK(by_circuit["units"]["cost"] == "USD");
+    double total_cost = 0;
+    std::map<std::string, std::pair<double, double>> hand_periods;  // period -> kWh, cost
+    for (int circuit = 0; circuit < 4; ++circuit) {
+      const json& row = by_circuit["rows"][circuit];
+      CAPTURE(row.dump());
+      // The engine on the same stored buckets.
+      Result<std::vector<CircuitBucket>> buckets =
+          ReadCircuitBuckets(*reader, series, circuit, from, to);
+      REQUIRE(buckets.ok());
+      std::vector<BucketEnergy> energy;
+      for (const CircuitBucket& bucket : *buckets) {
+        energy.push_back({bucket.start_ms, bucket.real_wh / 1000});
+      }
+      Result<std::vector<ScheduledCharges>> charges = tariffs.PriceEnergy(local, energy);
+      REQUIRE(charges.ok());
+      REQUIRE(charges->size() == 1);
+      double engine = 0;
+      for (const EnergyCharge& line : charges->front().lines) engine += line.amount;
+      CHECK(row["cost"] == doctest::Approx(engine).epsilon(1e-12));
+      total_cost += engine;
+      // And by hand from the readings: each 5-minute reading priced by the local hour it
+      // started in (UTC-5 all day).
+      const int channel = std::array<int, 4>{0, 3, 1, 2}[circuit];  // the circuits' CTs
+      double hand = 0;
+      for (UnixMs end = from + kReadingMs; end <= to; end += kReadingMs) {
+        const int hour = static_cast<int>(((end - kReadingMs - from) / 3600000) % 24);
+        const double kwh = Watts(channel, end) * kReadingMs / 3.6e9;
+        const char* period = hour < 6 ? "overnight" : (hour >= 16 && hour < 21 ? "peak" : "off-peak");
+        hand += kwh * HandPrice(hour);
+        hand_periods[period].first += kwh;
+        hand_periods[period].second += kwh * HandPrice(hour);
+      }
+      CHECK(row["cost"] == doctest::Approx(hand).epsilon(1e-9));
+    }
+    CHECK(by_circuit["total"]["cost"] == doctest::Approx(total_cost).epsilon(1e-12));
+
+    // By rate period: the same energy and cost, one row per period.
+    json by_period = GetJson("/v1/energy?from=2026-03-09&to=2026-03-10&by=rate_period", admin);
+    CHECK(by_period["by"] == "rate_period");
+    REQUIRE(by_period["rows"].size() == 3);
+    double period_kwh = 0;
+    for (const json& row : by_period["rows"]) {
+      CAPTURE(row.dump());
+      const std::string period = row["period"];
+      REQUIRE(hand_periods.count(period) == 1);
+      CHECK(row["kwh"] == doctest::Approx(hand_periods[period].first).epsilon(1e-9));
+      CHECK(row["cost"] == doctest::Approx(hand_periods[period].second).epsilon(1e-9));
+      period_kwh += row["kwh"].get<double>();
+    }
+    CHECK(period_kwh == doctest::Approx(by_circuit["total"]["consumption_kwh"].get<double>())
+                            .epsilon(1e-12));
+    CHECK(by_period["total"]["cost"] == doctest::Approx(total_cost).epsilon(1e-12));
+    // A unit's rows cost what its circuits cost; a unit token's periods cover its circuits.
+    json by_unit = GetJson("/v1/energy?from=2026-03-09&to=2026-03-10&by=unit", viewer);
+    CHECK(by_unit["rows"][0]["cost"] ==
+          doctest::Approx(by_circuit["rows"][0]["cost"].get<double>() +
+                          by_circuit["rows"][1]["cost"].get<double>())
+              .epsilon(1e-12));
+    json own_periods = GetJson("/v1/energy?from=2026-03-09&to=2026-03-10&by=rate_period", unit_b);
+    CHECK(own_periods["total"]["cost"] ==
+          doctest::Approx(by_circuit["rows"][2]["cost"].get<double>()).epsilon(1e-12));
+    httplib::Result csv =
+        Get("/v1/energy?from=2026-03-09&to=2026-03-10&by=rate_period&format=csv", viewer);
+    REQUIRE(csv);
+    CHECK(csv->body.rfind("from,to,period,kwh,cost\r\n", 0) == 0);
+    CHECK(csv->body.find("\r\n2026-03-09T00:00:00-05:00,2026-03-10T00:00:00-05:00,peak,") !=
+          std::string::npos);
+  }
+
   TEST_CASE_FIXTURE(ApiFixture, "energy as CSV (RFC 4180)") {
     httplib::Result csv = Get("/v1/energy?" + kSpringDay + "&by=unit&format=csv", viewer);
     REQUIRE(csv);
@@ -656,7 +575,7 @@ TEST_SUITE("api") {
     const std::string& body = csv->body;
     // RFC 4180 section 2: a header line, CRLF after every record, quoted fields with commas.
     const std::string header = "from,to,unit,name,circuits,consumption_kwh,export_kwh,"
-                               "apparent_energy_kvah,coverage,quality\r\n";
+                               "apparent_energy_kvah,coverage,quality,cost\r\n";
     REQUIRE(body.rfind(header, 0) == 0);
     CHECK(body.find("\r\n2026-03-08T00:00:00-06:00,2026-03-09T00:00:00-05:00,a,a,"
                     "a-heat a-kitchen,") != std::string::npos);

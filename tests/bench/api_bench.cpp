@@ -5,18 +5,26 @@
 // the same connections and threads, a trivial route (/v1/ready, no token, no database read),
 // /v1/live (token check and the newest reading of every channel) and a circuit series (a
 // week of local hours from the rollups), and prints requests/s, latency percentiles and each
-// route's rate as a fraction of the trivial one. Never fails on speed.
+// route's rate as a fraction of the trivial one. Then /v1/live again while 50 clients
+// long-poll /v1/events (each in a loop, honouring the 503 + Retry-After the server answers
+// beyond its cap of waiters), and prints its rate with and without them. Never fails on speed.
 // Run on demand:
 //   api_bench [seconds per route, default 10] [connections, default 16] [days, default 60]
+#include <arpa/inet.h>
+#include <netinet/in.h>
+#include <sys/socket.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include <atomic>
+#include <chrono>
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
 #include <future>
 #include <regex>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include "api/token.h"
@@ -136,6 +144,73 @@ WrkFigures RunWrk(const std::string& url, const std::string& token, int seconds,
   return figures;
 }
 
+// One HTTP/1.1 GET on a connection of its own (Connection: close): the status code, or 0
+// when the connection failed. `retry_after` gets the Retry-After seconds of a 503.
+int OneRequest(std::uint16_t port, const std::string& path, const std::string& token,
+               int* retry_after) {
+  const int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+  if (fd < 0) return 0;
+  sockaddr_in address{};
+  address.sin_family = AF_INET;
+  address.sin_port = htons(port);
+  address.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+  int status = 0;
+  if (::connect(fd, reinterpret_cast<sockaddr*>(&address), sizeof address) == 0) {
+    const std::string request = "GET " + path + " HTTP/1.1\r\nHost: 127.0.0.1\r\n"
+                                "Authorization: Bearer " + token + "\r\nConnection: close\r\n\r\n";
+    if (::send(fd, request.data(), request.size(), MSG_NOSIGNAL) ==
+        static_cast<ssize_t>(request.size())) {
+      std::string response;
+      char buffer[4096];
+      ssize_t got;
+      while ((got = ::recv(fd, buffer, sizeof buffer, 0)) > 0) response.append(buffer, got);
+      std::smatch match;
+      if (std::regex_search(response, match, std::regex("^HTTP/1.1 ([0-9]{3})"))) {
+        status = std::stoi(match[1]);
+      }
+      if (std::regex_search(response, match, std::regex("Retry-After: ([0-9]+)"))) {
+        *retry_after = std::stoi(match[1]);
+      }
+    }
+  }
+  ::close(fd);
+  return status;
+}
+
+// Clients that long-poll /v1/events in a loop until stopped, as a script waiting for events
+// would: a 200 after the wait (or an event) asks again; a 503 waits its Retry-After first.
+class LongPollers {
+ public:
+  LongPollers(int count, std::uint16_t port, std::string token, int wait_seconds) {
+    for (int k = 0; k < count; ++k) {
+      threads_.emplace_back([this, port, token, wait_seconds] {
+        const std::string path = "/v1/events?wait=" + std::to_string(wait_seconds);
+        while (!stop_) {
+          int retry_after = 1;
+          const int status = OneRequest(port, path, token, &retry_after);
+          (status == 200 ? answered_ : status == 503 ? refused_ : failed_)++;
+          if (status == 200) continue;
+          for (int slept = 0; slept < retry_after * 10 && !stop_; ++slept) {
+            std::this_thread::sleep_for(std::chrono::milliseconds(100));
+          }
+        }
+      });
+    }
+  }
+  ~LongPollers() {
+    stop_ = true;
+    for (std::thread& thread : threads_) thread.join();
+  }
+  int answered() const { return answered_; }
+  int refused() const { return refused_; }
+  int failed() const { return failed_; }
+
+ private:
+  std::atomic<bool> stop_{false};
+  std::atomic<int> answered_{0}, refused_{0}, failed_{0};
+  std::vector<std::thread> threads_;
+};
+
 int Main(int argc, char** argv) {
   const int seconds = argc > 1 ? std::atoi(argv[1]) : 10;
   const int connections = argc > 2 ? std::atoi(argv[2]) : 16;
@@ -195,6 +270,28 @@ int Main(int argc, char** argv) {
                 trivial > 0 ? figures.requests_per_second / trivial : 0.0);
     std::printf("   latency:%s\n", figures.latency.c_str());
     if (!figures.errors.empty()) std::printf("   errors: %s\n", figures.errors.c_str());
+  }
+  // /v1/live alone, then with 50 long-poll clients; each run as long as the others.
+  constexpr int kWaiters = 50;
+  constexpr int kWaitSeconds = 5;  // shorter than a run, so each client asks several times
+  const std::string live = base + "/v1/live";
+  WrkFigures alone = RunWrk(live, token->token, seconds, connections);
+  std::printf("\n/v1/live alone               %10.0f requests/s\n   latency:%s\n",
+              alone.requests_per_second, alone.latency.c_str());
+  {
+    LongPollers waiters(kWaiters, service.http_port(), token->token, kWaitSeconds);
+    std::this_thread::sleep_for(std::chrono::seconds(1));  // let them take their places
+    WrkFigures beside = RunWrk(live, token->token, seconds, connections);
+    std::printf("/v1/live, %d long-polls      %10.0f requests/s  (%.2f of alone)\n   latency:%s\n",
+                kWaiters, beside.requests_per_second,
+                alone.requests_per_second > 0
+                    ? beside.requests_per_second / alone.requests_per_second
+                    : 0.0,
+                beside.latency.c_str());
+    if (!beside.errors.empty()) std::printf("   errors: %s\n", beside.errors.c_str());
+    std::printf("   long-polls so far: %d answered after their wait, %d refused with 503 + "
+                "Retry-After (cap: half of the 8 HTTP threads), %d failed\n",
+                waiters.answered(), waiters.refused(), waiters.failed());
   }
   service.RequestStop();
   Status stopped = service.Wait();
