@@ -10,6 +10,7 @@
 #include "api/query_parameters.h"
 #include "api/rfc3339.h"
 #include "storage/daily_rollup.h"
+#include "storage/queries.h"
 
 namespace ampledger {
 namespace {
@@ -240,8 +241,11 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
   }
 
   const std::vector<int> visible = VisibleCircuits(config, scope);
+  // A priced answer needs each 15-minute bucket (its rate period); an unpriced one sums whole
+  // local days from the daily rollup, which makes a year's answer cheap.
   Result<std::vector<std::vector<CircuitBucket>>> buckets =
-      ReadDaysAndBucketsForCircuits(db, series, zone, visible, *from, *to);
+      schedule != nullptr ? ReadBucketsForCircuits(db, series, visible, *from, *to)
+                          : ReadDaysAndBucketsForCircuits(db, series, zone, visible, *from, *to);
   if (!buckets.ok()) return buckets.status();
   const TimeRange range{*from, *to};
   std::vector<EnergyRow> rows;

@@ -271,7 +271,7 @@ TEST_SUITE("daemon") {
     for (int h = 0; h < 744; ++h) {
       hours.push_back({{march + h * 3'600'000LL, march + (h + 1) * 3'600'000LL}, 1700});
     }
-    EspiFeed feed{"utility", {BuildEspiSeries({"meter", "hourly", kEspiFlowForward, 3600}, *utc,
+    EspiFeed feed{"utility", {BuildEspiSeries({"meter", "hourly", kEspiFlowForward, 3600, {}}, *utc,
                                               hours)}};
     WriteFile(site.dir.path() / "march.xml", WriteEspiFeed(feed, EspiWriteOptions{}));
     REQUIRE(Ampledger("espi-import" + site.Config() + " " + site.dir.File("march.xml")).exit_code ==

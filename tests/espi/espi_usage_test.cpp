@@ -52,7 +52,7 @@ TEST_CASE("the sample's delivered energy over its 23-hour local day is 109.403 k
 
 TEST_CASE("the sample written by us reads back to the same readings, in one 23-hour block") {
   const std::vector<MeterInterval> intervals = SampleIntervals();
-  EspiSeriesOptions options{"site", "main meter again", kEspiFlowForward, 900};
+  EspiSeriesOptions options{"site", "main meter again", kEspiFlowForward, 900, {}};
   EspiFeed feed{"again", {BuildEspiSeries(options, NewYork(), intervals)}};
   REQUIRE(feed.series[0].blocks.size() == 1);
   CHECK(feed.series[0].blocks[0].start_s == 1331442000);
@@ -74,7 +74,7 @@ TEST_CASE("values carry the rounding remainder so the sum is the rounded total")
   for (int i = 0; i < 10; ++i) {
     intervals.push_back({{1800000000000 + i * 900000LL, 1800000000000 + (i + 1) * 900000LL}, 0.4});
   }
-  EspiSeries series = BuildEspiSeries({"u", "t", kEspiFlowForward, 900}, NewYork(), intervals);
+  EspiSeries series = BuildEspiSeries({"u", "t", kEspiFlowForward, 900, {}}, NewYork(), intervals);
   std::int64_t sum = 0;
   for (const EspiIntervalBlock& block : series.blocks) {
     for (const EspiIntervalReading& reading : block.readings) {
