@@ -1,7 +1,7 @@
 // storage/daily_rollup.cpp
 #include "storage/daily_rollup.h"
 
-#include <algorithm>
+#include "storage/queries.h"
 
 namespace ampledger {
 namespace {
@@ -26,34 +26,6 @@ constexpr std::string_view kSelectBucketsSql =
 constexpr std::string_view kSelectDaysSql =
     "SELECT day, real_wh, apparent_vah, min_w, max_w, coverage_sum, quality FROM rollup_day "
     "WHERE circuit = ?1 AND day >= ?2 AND day < ?3 ORDER BY day";
-
-// Appends the rows of `select` (either statement above) for one circuit and range.
-Status ReadRows(Statement& select, std::int64_t circuit_id, UnixMs from_ms, UnixMs to_ms,
-                std::vector<CircuitBucket>* out) {
-  if (from_ms >= to_ms) return Status();
-  select.Bind(1, circuit_id);
-  select.Bind(2, static_cast<std::int64_t>(from_ms));
-  select.Bind(3, static_cast<std::int64_t>(to_ms));
-  for (;;) {
-    Result<bool> row = select.Step("read rollups");
-    if (!row.ok()) {
-      select.Reset();
-      return row.status();
-    }
-    if (!row.value()) break;
-    CircuitBucket b;
-    b.start_ms = select.Int(0);
-    b.real_wh = select.Double(1);
-    b.apparent_vah = select.Double(2);
-    b.min_watts = select.Double(3);
-    b.max_watts = select.Double(4);
-    b.coverage = select.Double(5);
-    b.quality = static_cast<Quality>(std::clamp<std::int64_t>(select.Int(6), 0, 2));
-    out->push_back(b);
-  }
-  select.Reset();
-  return Status();
-}
 
 // True when `rollup_day` holds days of `zone`.
 Result<bool> BuiltForZone(const Database& db, const LocalTime& zone) {
@@ -178,9 +150,9 @@ Result<std::vector<std::vector<CircuitBucket>>> ReadDaysAndBucketsForCircuits(
   std::vector<std::vector<CircuitBucket>> out(circuit_indexes.size());
   for (std::size_t i = 0; i < circuit_indexes.size() && status.ok(); ++i) {
     const std::int64_t id = series.circuit_ids[circuit_indexes[i]];
-    status = ReadRows(*buckets, id, from_ms, days_from, &out[i]);
-    if (status.ok()) status = ReadRows(*days, id, days_from, days_to, &out[i]);
-    if (status.ok()) status = ReadRows(*buckets, id, days_to, to_ms, &out[i]);
+    status = AppendRollupRows(*buckets, id, from_ms, days_from, &out[i]);
+    if (status.ok()) status = AppendRollupRows(*days, id, days_from, days_to, &out[i]);
+    if (status.ok()) status = AppendRollupRows(*buckets, id, days_to, to_ms, &out[i]);
   }
   (void)db.Exec("COMMIT", "read rollups");
   if (!status.ok()) return status;

@@ -8,8 +8,15 @@
 namespace ampledger {
 namespace {
 
-Status ReadBuckets(Statement& select, std::int64_t circuit_id, UnixMs from_ms, UnixMs to_ms,
-                   std::vector<CircuitBucket>* out) {
+constexpr std::string_view kSelectBucketsSql =
+    "SELECT bucket, real_wh, apparent_vah, min_w, max_w, coverage, quality FROM rollup "
+    "WHERE circuit = ?1 AND bucket >= ?2 AND bucket < ?3 ORDER BY bucket";
+
+}  // namespace
+
+Status AppendRollupRows(Statement& select, std::int64_t circuit_id, UnixMs from_ms, UnixMs to_ms,
+                        std::vector<CircuitBucket>* out) {
+  if (from_ms >= to_ms) return Status();
   select.Bind(1, circuit_id);
   select.Bind(2, static_cast<std::int64_t>(from_ms));
   select.Bind(3, static_cast<std::int64_t>(to_ms));
@@ -34,19 +41,13 @@ Status ReadBuckets(Statement& select, std::int64_t circuit_id, UnixMs from_ms, U
   return Status();
 }
 
-constexpr std::string_view kSelectBucketsSql =
-    "SELECT bucket, real_wh, apparent_vah, min_w, max_w, coverage, quality FROM rollup "
-    "WHERE circuit = ?1 AND bucket >= ?2 AND bucket < ?3 ORDER BY bucket";
-
-}  // namespace
-
 Result<std::vector<CircuitBucket>> ReadCircuitBuckets(const Database& db, const SeriesMap& series,
                                                       int circuit_index, UnixMs from_ms,
                                                       UnixMs to_ms) {
   Result<Statement> select = db.Prepare(kSelectBucketsSql);
   if (!select.ok()) return select.status();
   std::vector<CircuitBucket> out;
-  if (Status s = ReadBuckets(*select, series.circuit_ids[circuit_index], from_ms, to_ms, &out);
+  if (Status s = AppendRollupRows(*select, series.circuit_ids[circuit_index], from_ms, to_ms, &out);
       !s.ok()) {
     return s;
   }
@@ -62,7 +63,7 @@ Result<std::vector<std::vector<CircuitBucket>>> ReadBucketsForCircuits(
   std::vector<std::vector<CircuitBucket>> out(circuit_indexes.size());
   Status status;
   for (size_t i = 0; i < circuit_indexes.size() && status.ok(); ++i) {
-    status = ReadBuckets(*select, series.circuit_ids[circuit_indexes[i]], from_ms, to_ms, &out[i]);
+    status = AppendRollupRows(*select, series.circuit_ids[circuit_indexes[i]], from_ms, to_ms, &out[i]);
   }
   (void)db.Exec("COMMIT", "read rollups");
   if (!status.ok()) return status;

@@ -5,6 +5,7 @@
 // open lag the raw readings by at most WriterOptions::open_bucket_flush_ms.
 #pragma once
 
+#include <cstdint>
 #include <vector>
 
 #include "daemon/metering/bucket.h"
@@ -25,6 +26,12 @@ Result<std::vector<CircuitBucket>> ReadCircuitBuckets(const Database& db, const 
 Result<std::vector<std::vector<CircuitBucket>>> ReadBucketsForCircuits(
     const Database& db, const SeriesMap& series, const std::vector<int>& circuit_indexes,
     UnixMs from_ms, UnixMs to_ms);
+
+// Appends the rows `select` gives for one circuit and [from_ms, to_ms) to `out`. `select` takes
+// ?1 circuit id, ?2 from, ?3 to and yields start, real_wh, apparent_vah, min_w, max_w,
+// coverage, quality (the shape of `rollup` and of `rollup_day`); it is reset after.
+Status AppendRollupRows(Statement& select, std::int64_t circuit_id, UnixMs from_ms, UnixMs to_ms,
+                        std::vector<CircuitBucket>* out);
 
 // The channel's raw readings ending in [from_ms, to_ms), in time order, at most `limit`.
 // The table is keyed (time, channel), so this reads every channel's rows in the range:
