@@ -7,6 +7,16 @@
 namespace ampledger {
 namespace {
 
+// The instants of 0000-01-01T00:00:00Z and 10000-01-01T00:00:00Z (days from 1970 by
+// date::sys_days).
+constexpr UnixMs kFirstInstant = -719528LL * 86400 * kMsPerSecond;
+constexpr UnixMs kEndInstant = 2932897LL * 86400 * kMsPerSecond;
+
+const LocalTime& UtcTime() {
+  static const LocalTime utc = LocalTime::ForZone("UTC").value();
+  return utc;
+}
+
 // Reads exactly `count` decimal digits at `*pos`.
 bool Digits(std::string_view text, std::size_t* pos, int count, int* value) {
   if (*pos + count > text.size()) return false;
@@ -73,12 +83,23 @@ std::optional<UnixMs> ParseRfc3339(std::string_view text) {
   }
   if (pos != text.size()) return std::nullopt;
   const UnixMs days = date::sys_days(ymd).time_since_epoch().count();
-  return ((days * 24 + hour) * 60 + minute - offset_minutes) * 60 * kMsPerSecond +
-         second * kMsPerSecond + millis;
+  const UnixMs instant = ((days * 24 + hour) * 60 + minute - offset_minutes) * 60 * kMsPerSecond +
+                         second * kMsPerSecond + millis;
+  // An offset can carry a time just outside years 0000-9999 ("0000-01-01T00:30:00+01:00"),
+  // which no date-time in UTC can state, so no answer could name it back.
+  if (instant < kFirstInstant || instant >= kEndInstant) return std::nullopt;
+  return instant;
 }
 
 std::string FormatLocalRfc3339(const LocalTime& zone, UnixMs instant) {
   const LocalMoment local = zone.At(instant);
+  // Local mean time before a zone's first standard time has offsets in seconds (Dublin
+  // -00:25:21 until 1916, IANA tz), which RFC 3339 cannot write; and near years 0000 and 9999
+  // a local year can leave the four digits. Such instants are written in UTC instead.
+  const int year = static_cast<int>(local.date.year());
+  if (local.utc_offset_seconds % 60 != 0 || year < 0 || year > 9999) {
+    return FormatLocalRfc3339(UtcTime(), instant);
+  }
   // Seconds and milliseconds are the same in every zone (offsets are whole minutes).
   const UnixMs within_minute = ((instant % 60000) + 60000) % 60000;
   char text[48];

@@ -50,6 +50,23 @@ TEST_SUITE("api") {
       CHECK(FormatLocalRfc3339(chicago, *ParseRfc3339(text)) == text);  // the repeated hour
     }
   }
+
+  // Found by tests/fuzz/api_parameters_fuzz.cpp: a time read back from an answer must be the
+  // time that was asked for, in any zone and year.
+  TEST_CASE("FormatLocalRfc3339 writes local mean time and the year edges in UTC") {
+    // IANA tz: Europe/Dublin kept Dublin Mean Time, UTC-00:25:21, until 1916.
+    LocalTime dublin = LocalTime::ForZone("Europe/Dublin").value();
+    const UnixMs early = *ParseRfc3339("0026-04-05T03:00:00+11:00");
+    CHECK(FormatLocalRfc3339(dublin, early) == "0026-04-04T16:00:00Z");
+    CHECK(ParseRfc3339(FormatLocalRfc3339(dublin, early)) == early);
+    LocalTime chicago = LocalTime::ForZone("America/Chicago").value();
+    const UnixMs first = *ParseRfc3339("0000-01-01T00:00:00Z");
+    CHECK(FormatLocalRfc3339(chicago, first) == "0000-01-01T00:00:00Z");
+    // Times no UTC date-time of years 0000-9999 can state are refused.
+    CHECK_FALSE(ParseRfc3339("0000-01-01T00:30:00+01:00").has_value());
+    CHECK_FALSE(ParseRfc3339("9999-12-31T23:30:00-01:00").has_value());
+    CHECK(ParseRfc3339("9999-12-31T23:59:59.999Z").has_value());
+  }
 }
 
 }  // namespace

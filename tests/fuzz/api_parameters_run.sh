@@ -2,9 +2,9 @@
 # tests/fuzz/api_parameters_run.sh [seconds] [extra libFuzzer flags...]
 # Builds the API parameter fuzzer (tests/fuzz/api_parameters_fuzz.cpp) with clang++ (libFuzzer,
 # AddressSanitizer, UBSan), seeds it with query strings of the API's documented forms and the
-# times of the RFC 3339 tests, and runs it for `seconds` (default 60). Not part of the CMake
-# build or of ctest yet; exits 77 (skipped) without clang++. The binary is rebuilt only when a
-# source is newer than it.
+# times of the RFC 3339 tests, and runs it for `seconds` (default 60); ctest entry fuzz-api
+# runs it 30 s. Exits 77 (skipped) without clang++. The binary is rebuilt only when a source is
+# newer than it.
 # Needs: clang, libcpp-httplib-dev, nlohmann-json3-dev, libhowardhinnant-date-dev, libssl-dev.
 # Output: build-fuzz/ under the repo root (binary, api-corpus, crash-* files).
 set -eu
@@ -17,7 +17,7 @@ command -v "$cxx" > /dev/null || { echo "fuzz: $cxx not found: skipped"; exit 77
 mkdir -p "$out/api-corpus" "$out/api-seeds"
 
 sources="$root/api/query_parameters.cpp $root/api/rfc3339.cpp $root/api/energy_series.cpp \
-  $root/api/http_server.cpp $root/api/problem.cpp $root/config/status.cpp \
+  $root/api/http_server.cpp $root/api/connection_pool.cpp $root/api/problem.cpp $root/config/status.cpp \
   $root/config/listen_address.cpp \
   $root/daemon/metering/local_time.cpp $root/daemon/metering/bucket.cpp \
   $root/daemon/metering/energy.cpp $root/tests/fuzz/api_parameters_fuzz.cpp"
@@ -53,4 +53,4 @@ grep -ho '"[0-9][0-9][0-9][0-9]-[0-9][0-9]-[0-9][0-9][^"]*"' "$root"/tests/api/*
 
 cd "$out"
 ./api_parameters_fuzz -max_total_time="$seconds" -max_len=512 -timeout=10 -rss_limit_mb=1024 \
-  -print_final_stats=1 -artifact_prefix=api- "$@" api-corpus api-seeds
+  -print_final_stats=1 -error_exitcode=1 -artifact_prefix=api- "$@" api-corpus api-seeds

@@ -47,4 +47,4 @@ done
 
 cd "$out"
 ./config_fuzz -max_total_time="$seconds" -max_len=8192 -timeout=10 -rss_limit_mb=1024 \
-  -print_final_stats=1 -artifact_prefix=config- "$@" config-corpus config-seeds
+  -print_final_stats=1 -error_exitcode=1 -artifact_prefix=config- "$@" config-corpus config-seeds
