@@ -17,14 +17,19 @@
 namespace ampledger {
 namespace {
 
+// The demo's site in `dir`, its daemon on ports the system picks on 127.0.0.1.
+Result<Config> PrepareDemoIn(const testing::TempDir& dir) {
+  DemoOptions demo;
+  demo.keep_dir = dir.path().string();
+  demo.http_listen = "127.0.0.1:0";
+  demo.udp_listen = "127.0.0.1:0";
+  return PrepareDemo(demo);
+}
+
 TEST_SUITE("daemon") {
   TEST_CASE("the demo's simulated nodes backfill history and report live through the daemon") {
     testing::TempDir dir;
-    DemoOptions demo;
-    demo.keep_dir = dir.path().string();
-    demo.http_listen = "127.0.0.1:0";
-    demo.udp_listen = "127.0.0.1:0";
-    Result<Config> config = PrepareDemo(demo);
+    Result<Config> config = PrepareDemoIn(dir);
     REQUIRE_MESSAGE(config.ok(), config.status().ToString());
     Service service(*config);
     REQUIRE(service.Start().ok());
@@ -73,11 +78,7 @@ TEST_SUITE("daemon") {
   // script following /v1/events with long-polls receives both, as real events of the daemon.
   TEST_CASE("the demo's events reach a long-poll: a finished dryer cycle with its cost, a silent node") {
     testing::TempDir dir;
-    DemoOptions demo;
-    demo.keep_dir = dir.path().string();
-    demo.http_listen = "127.0.0.1:0";
-    demo.udp_listen = "127.0.0.1:0";
-    Result<Config> config = PrepareDemo(demo);
+    Result<Config> config = PrepareDemoIn(dir);
     REQUIRE_MESSAGE(config.ok(), config.status().ToString());
     Service service(*config);
     REQUIRE(service.Start().ok());
