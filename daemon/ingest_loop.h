@@ -2,9 +2,9 @@
 // The UDP receive thread's work:
 //   receive -> decode and verify (daemon/ingest) -> anti-replay check -> derive readings
 //   (daemon/metering) -> ReadingWriter::Submit -> once durable: advance the window, ack.
-// The datagrams of one receive call (one recvmmsg) go to the writer as one submission with
-// one completion, and their acknowledgements leave in one sendmmsg: under load the cost per
-// datagram is decoding and storing, not queueing and system calls.
+// The datagrams waiting in the socket (up to kMaxDatagramsPerSubmission) go to the writer as
+// one submission with one completion, and their acknowledgements leave in one sendmmsg: under
+// load the cost per datagram is decoding and storing, not queueing and system calls.
 // A datagram is acknowledged only after its readings are committed; a valid duplicate of a
 // committed datagram is acknowledged again without storing anything; a duplicate of one still
 // in flight is dropped (its own acknowledgement is on the way). Every refusal is counted by
@@ -80,6 +80,9 @@ class IngestLoop {
     std::vector<Accepted> accepted;
     std::vector<NodeEntry*> nodes;  // each node with a datagram in it, once
   };
+
+  // Run() submits after this many datagrams at most (accepted or not).
+  static constexpr int kMaxDatagramsPerSubmission = 256;
 
   // On the writer thread: the submission's datagrams are durable (or failed).
   void Completed(const std::vector<Accepted>& accepted, const Status& status);

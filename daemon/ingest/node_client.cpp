@@ -18,6 +18,10 @@ Result<std::unique_ptr<NodeClient>> NodeClient::Open(const std::string& daemon_a
   if (!daemon.ok()) return daemon.status();
   int fd = ::socket(daemon->address.ss_family, SOCK_DGRAM | SOCK_CLOEXEC, 0);
   if (fd < 0) return Status::IOError(std::string("socket: ") + std::strerror(errno));
+  if (options.receive_buffer_bytes > 0) {
+    ::setsockopt(fd, SOL_SOCKET, SO_RCVBUF, &options.receive_buffer_bytes,
+                 sizeof options.receive_buffer_bytes);
+  }
   if (::connect(fd, reinterpret_cast<const sockaddr*>(&daemon->address), daemon->length) < 0) {
     Status status = Status::IOError("connect " + daemon_address + ": " + std::strerror(errno));
     ::close(fd);

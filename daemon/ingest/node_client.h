@@ -32,6 +32,10 @@ struct NodeClientOptions {
   // resends only that far behind its newest, so a node that ran further ahead while an
   // acknowledgement was lost could never have that pack accepted again.
   std::uint32_t max_seq_span = 1000;
+  // SO_RCVBUF of the socket (capped by the system's net.core.rmem_max); 0: the system default.
+  // A node with a wide window must be able to hold that many acknowledgements arriving at
+  // once, or the kernel drops the rest and their packs wait resend_after_ms to go again.
+  int receive_buffer_bytes = 0;
 };
 
 class NodeClient {

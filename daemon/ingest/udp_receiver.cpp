@@ -89,10 +89,12 @@ UdpReceiver::~UdpReceiver() { ::close(fd_); }
 
 Result<int> UdpReceiver::Receive(int timeout_ms,
                                  const std::function<void(const ReceivedDatagram&)>& handler) {
-  pollfd waiting{fd_, POLLIN, 0};
-  int ready = ::poll(&waiting, 1, timeout_ms);
-  if (ready < 0) return errno == EINTR ? 0 : Result<int>(Errno("poll"));
-  if (ready == 0) return 0;
+  if (timeout_ms != 0) {
+    pollfd waiting{fd_, POLLIN, 0};
+    int ready = ::poll(&waiting, 1, timeout_ms);
+    if (ready < 0) return errno == EINTR ? 0 : Result<int>(Errno("poll"));
+    if (ready == 0) return 0;
+  }
 
   const size_t slot = static_cast<size_t>(max_datagram_bytes_) + 1;
   mmsghdr messages[kBatch] = {};
@@ -109,7 +111,9 @@ Result<int> UdpReceiver::Receive(int timeout_ms,
     header.msg_control = controls[i];
     header.msg_controllen = sizeof controls[i];
   }
-  int count = ::recvmmsg(fd_, messages, kBatch, MSG_WAITFORONE, nullptr);
+  // Without a wait the first datagram is not waited for either (one system call, no poll).
+  const int flags = MSG_WAITFORONE | (timeout_ms == 0 ? MSG_DONTWAIT : 0);
+  int count = ::recvmmsg(fd_, messages, kBatch, flags, nullptr);
   if (count < 0) {
     return (errno == EINTR || errno == EAGAIN) ? 0 : Result<int>(Errno("recvmmsg"));
   }

@@ -51,6 +51,7 @@ class UdpReceiver {
 
   // Waits up to `timeout_ms` for datagrams, then hands each one received to `handler`, in
   // order. Returns how many were handled (0 on timeout). EINTR is a timeout, not an error.
+  // With timeout_ms 0 it only takes what is already waiting, in one system call.
   Result<int> Receive(int timeout_ms, const std::function<void(const ReceivedDatagram&)>& handler);
 
   // Sends one datagram (an acknowledgement). Fails with Unavailable if the socket buffer is full.
