@@ -51,6 +51,7 @@ Result<AlertEvaluator> AlertEvaluator::Create(const Config& config,
     }
   }
   evaluator.changed_.assign(evaluator.slots_.size(), false);
+  evaluator.fed_at_.assign(evaluator.slots_.size(), 0);
   evaluator.unit_of_circuit_.assign(config.circuits.size(), -1);
   for (size_t u = 0; u < config.units.size(); ++u) {
     for (const std::string& id : config.units[u].circuits) {
@@ -100,12 +101,13 @@ void AlertEvaluator::Record(int slot, const AlertState& before,
   transitions.clear();
 }
 
-void AlertEvaluator::Feed(const std::string& subject, const PowerSample& sample,
+void AlertEvaluator::Feed(const std::string& subject, const PowerSample& sample, UnixMs now,
                           std::vector<AlertOutcome>* out) {
   auto found = slots_of_subject_.find(subject);
   if (found == slots_of_subject_.end()) return;
   std::vector<AlertTransition> transitions;
   for (int slot : found->second) {
+    fed_at_[slot] = now;
     const AlertState before = slots_[slot].state;
     rules_[slots_[slot].rule].OnSample(sample, &slots_[slot].state, &transitions);
     Record(slot, before, transitions, out);
@@ -174,13 +176,13 @@ void AlertEvaluator::OnReadings(const std::vector<ChannelReading>& readings, Uni
       unit_sample.cost += sample.cost;
     }
     for (const auto& [circuit, sample] : circuits) {
-      Feed("circuit:" + config_->circuits[circuit].id, sample, out);
+      Feed("circuit:" + config_->circuits[circuit].id, sample, now, out);
     }
     for (auto& [unit, sample] : units) {
       for (size_t c = 0; c < unit_of_circuit_.size(); ++c) {
         if (unit_of_circuit_[c] == unit) sample.watts += circuit_watts_[c];
       }
-      Feed("unit:" + config_->units[unit].id, sample, out);
+      Feed("unit:" + config_->units[unit].id, sample, now, out);
     }
   }
   std::vector<AlertTransition> transitions;
@@ -198,16 +200,27 @@ void AlertEvaluator::OnReadings(const std::vector<ChannelReading>& readings, Uni
 void AlertEvaluator::OnTick(UnixMs now, std::vector<AlertOutcome>* out) {
   std::vector<AlertTransition> transitions;
   for (size_t slot = 0; slot < slots_.size(); ++slot) {
+    std::optional<UnixMs> deadline = SlotDeadline(slot);
+    if (!deadline || now < *deadline) continue;
     const AlertState before = slots_[slot].state;
     rules_[slots_[slot].rule].OnTick(now, &slots_[slot].state, &transitions);
     Record(static_cast<int>(slot), before, transitions, out);
   }
 }
 
+std::optional<UnixMs> AlertEvaluator::SlotDeadline(size_t slot) const {
+  const AlertRule& rule = rules_[slots_[slot].rule];
+  std::optional<UnixMs> deadline = rule.NextDeadline(slots_[slot].state);
+  if (deadline && rule.kind() == AlertKind::kBudget && fed_at_[slot] > 0) {
+    deadline = std::max(*deadline, fed_at_[slot] + kBudgetQuietMs);
+  }
+  return deadline;
+}
+
 std::optional<UnixMs> AlertEvaluator::NextDeadline() const {
   std::optional<UnixMs> earliest;
-  for (const AlertSlot& slot : slots_) {
-    std::optional<UnixMs> deadline = rules_[slot.rule].NextDeadline(slot.state);
+  for (size_t slot = 0; slot < slots_.size(); ++slot) {
+    std::optional<UnixMs> deadline = SlotDeadline(slot);
     if (deadline && (!earliest || *deadline < *earliest)) earliest = deadline;
   }
   return earliest;

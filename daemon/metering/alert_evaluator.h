@@ -70,8 +70,13 @@ class AlertEvaluator {
   void OnReadings(const std::vector<ChannelReading>& readings, UnixMs now,
                   std::vector<AlertOutcome>* out);
 
-  // Timer work due at `now` (silent nodes, ended budget periods).
+  // Timer work due at `now` (silent nodes, ended budget periods). A budget period is closed
+  // by the first reading of a later period; the timer closes it only when its subject has
+  // also had no reading stored for kBudgetQuietMs, so readings replayed or resent long after
+  // their time (the demo's history, a node catching up) are counted in the period they
+  // measured rather than arriving after the timer closed it.
   void OnTick(UnixMs now, std::vector<AlertOutcome>* out);
+  static constexpr UnixMs kBudgetQuietMs = 2 * 60 * 1000;
 
   // The earliest time OnTick has work; nullopt when none is scheduled.
   std::optional<UnixMs> NextDeadline() const;
@@ -81,8 +86,10 @@ class AlertEvaluator {
 
  private:
   explicit AlertEvaluator(const Config& config) : config_(&config) {}
-  void Feed(const std::string& subject, const PowerSample& sample,
+  void Feed(const std::string& subject, const PowerSample& sample, UnixMs now,
             std::vector<AlertOutcome>* out);
+  // When the timer may act on `slot` (its rule's deadline, held back for budgets).
+  std::optional<UnixMs> SlotDeadline(size_t slot) const;
   void Record(int slot, const AlertState& before, std::vector<AlertTransition>& transitions,
               std::vector<AlertOutcome>* out);
 
@@ -92,6 +99,7 @@ class AlertEvaluator {
   std::vector<AlertRule> rules_;
   std::vector<AlertSlot> slots_;
   std::vector<bool> changed_;
+  std::vector<UnixMs> fed_at_;  // by slot: `now` of the last OnReadings that fed it (0: none)
   std::vector<int> unit_of_circuit_;        // by circuit index; -1 when no unit owns it
   std::vector<double> channel_watts_;       // newest reading's power, by flat channel index
   std::vector<double> circuit_watts_;       // newest summed power, by circuit index

@@ -185,6 +185,59 @@ TEST_SUITE("metering") {
     CHECK(out[2].transition.Value("used_kwh") == doctest::Approx(25));
   }
 
+  TEST_CASE("alert evaluator: a budget period closes on its readings, the timer waits for quiet") {
+    // 1 kW at 0.10 a kWh against a daily budget of 1.00: over it after 10 hours of a day.
+    PricedSite site("UTC", "", CostBudget("daily", "day", 1));
+    AlertEvaluator evaluator = AlertEvaluator::Create(site.config, &site.schedule).value();
+    constexpr UnixMs kHour = 3'600'000;
+    constexpr UnixMs kWall = kT0 + 30 * 24 * kHour;  // a month after the readings' day
+    constexpr UnixMs kQuiet = AlertEvaluator::kBudgetQuietMs;
+    // History replayed (or resent) a month late: the 2026-03-02 readings arrive in batches,
+    // with timer ticks between them, as the daemon's writer thread interleaves them.
+    std::vector<AlertOutcome> out;
+    UnixMs wall = kWall;
+    for (UnixMs end = kT0 + kHour; end <= kT0 + 25 * kHour; end += kHour, wall += 1000) {
+      ChannelReading reading = Reading(0, end, 1000);
+      reading.duration_ms = kHour;
+      evaluator.OnReadings({reading}, wall, &out);
+      evaluator.OnTick(wall + 500, &out);
+      if (std::optional<UnixMs> deadline = evaluator.NextDeadline()) {
+        CHECK(*deadline == wall + kQuiet);
+      }
+    }
+    // Raised in its day, cleared by the next day's first reading with the whole day counted:
+    // a timer acting on the wall clock would have closed the day at its first tick, with
+    // about an hour counted and the rest dropped as late.
+    REQUIRE(out.size() == 3);
+    CHECK(out[0].transition.kind == AlertEventKind::kRaised);
+    CHECK(out[1].transition.kind == AlertEventKind::kChanged);
+    CHECK(out[1].transition.at_ms == kT0 + 11 * kHour);
+    CHECK(out[2].transition.kind == AlertEventKind::kCleared);
+    CHECK(out[2].transition.at_ms == kT0 + 24 * kHour);
+    CHECK(out[2].transition.Value("used_kwh") == doctest::Approx(24));
+    CHECK(out[2].transition.Value("used_cost") == doctest::Approx(2.4));
+
+    // The next day goes over too, then its readings stop (the node fell silent): the timer
+    // closes the day once the subject has been quiet kBudgetQuietMs after its last reading.
+    out.clear();
+    for (UnixMs end = kT0 + 26 * kHour; end <= kT0 + 36 * kHour; end += kHour, wall += 1000) {
+      ChannelReading reading = Reading(0, end, 1000);
+      reading.duration_ms = kHour;
+      evaluator.OnReadings({reading}, wall, &out);
+    }
+    REQUIRE(out.size() == 2);
+    const UnixMs last_fed = wall - 1000;
+    CHECK(evaluator.NextDeadline() == last_fed + kQuiet);
+    out.clear();
+    evaluator.OnTick(last_fed + kQuiet - 1, &out);
+    CHECK(out.empty());
+    evaluator.OnTick(last_fed + kQuiet, &out);
+    REQUIRE(out.size() == 1);
+    CHECK(out[0].transition.kind == AlertEventKind::kCleared);
+    CHECK(out[0].transition.at_ms == kT0 + 48 * kHour);  // the period's end, not the tick's
+    CHECK(out[0].transition.Value("used_kwh") == doctest::Approx(12));
+  }
+
   TEST_CASE("alert evaluator: a cost budget without a tariff schedule is refused") {
     PricedSite site("UTC", "", CostBudget("daily", "day", 2));
     Result<AlertEvaluator> unpriced = AlertEvaluator::Create(site.config);
