@@ -24,29 +24,16 @@ namespace {
 
 using nlohmann::json;
 
-// "YYYY-MM", the month its cycle starts in.
-std::string CycleName(date::year_month_day first_day) {
-  char text[16];
-  std::snprintf(text, sizeof text, "%04d-%02u", static_cast<int>(first_day.year()),
-                static_cast<unsigned>(first_day.month()));
-  return text;
-}
-
 // The billing cycle path parameter names: "YYYY-MM", 1970-01 or later, begun by `now`.
 Result<BillingCycle> ParseCycle(const ApiContext& context, const LocalTime& zone,
                                 const std::string& text, UnixMs now) {
-  const std::string what = "path parameter \"cycle\": \"" + text + "\" ";
-  const bool shaped = text.size() == 7 && text[4] == '-' &&
-                      text.find_first_not_of("0123456789-") == std::string::npos &&
-                      text.find('-') == 4 && text.rfind('-') == 4;
-  const int year = shaped ? std::stoi(text.substr(0, 4)) : 0;
-  const unsigned month = shaped ? static_cast<unsigned>(std::stoi(text.substr(5, 2))) : 0;
-  if (!shaped || year < 1970 || month < 1 || month > 12) {
-    return Status::InvalidArgument(what + "is not a billing cycle: give the month it starts "
-                                          "in as YYYY-MM, 1970-01 or later (e.g. 2026-03)");
+  std::optional<date::year_month> month = ParseCycleMonth(text);
+  if (!month) {
+    return Status::InvalidArgument("path parameter \"cycle\": \"" + text +
+                                   "\" is not a billing cycle: give the month it starts in as "
+                                   "YYYY-MM, 1970-01 or later (e.g. 2026-03)");
   }
-  Result<BillingCycle> cycle = zone.CycleStarting(context.config->site.billing_cycle_day,
-                                                  date::year{year} / date::month{month});
+  Result<BillingCycle> cycle = zone.CycleStarting(context.config->site.billing_cycle_day, *month);
   if (!cycle.ok()) return cycle.status();
   if (cycle->range.start_ms > now) {
     return Status::NotFound("no billing cycle " + text + " yet: it begins " +
@@ -102,7 +89,7 @@ Result<HttpResponse> CurrentCycle(const ApiContext& context, const LocalTime& zo
   auto projected = [elapsed](double value) {
     return elapsed > 0 ? json(value / elapsed) : json(nullptr);
   };
-  json body = {{"cycle", CycleName(cycle->first_day)},
+  json body = {{"cycle", CycleMonthName(cycle->first_day.year() / cycle->first_day.month())},
                {"from", FormatLocalRfc3339(zone, range.start_ms)},
                {"to", FormatLocalRfc3339(zone, range.end_ms)},
                {"at", FormatLocalRfc3339(zone, at)},
@@ -195,8 +182,10 @@ Result<HttpResponse> SiteBillRoute(const ApiContext& context, const LocalTime& z
                     cycle->notice + "\n",
                 "text/plain; charset=utf-8");
   }
-  return HttpResponse::Json(RenderBillJson(*cycle, CycleName(cycle->site.cycle.first_day),
-                                           config.site.name, config.site.currency));
+  const date::year_month_day first_day = cycle->site.cycle.first_day;
+  const std::string name = CycleMonthName(first_day.year() / first_day.month());
+  return HttpResponse::Json(
+      RenderBillJson(*cycle, name, config.site.name, config.site.currency));
 }
 
 using SiteHandler = Result<HttpResponse> (*)(const ApiContext&, const LocalTime&,

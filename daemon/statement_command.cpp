@@ -1,7 +1,6 @@
 // daemon/statement_command.cpp
 #include "daemon/statement_command.h"
 
-#include <cstdio>
 #include <ostream>
 
 #include "config/config.h"
@@ -15,16 +14,6 @@ namespace ampledger {
 namespace {
 
 // "2026-03" -> March 2026.
-bool ParseMonth(const std::string& text, date::year_month* out) {
-  int year = 0, month = 0, used = 0;
-  if (std::sscanf(text.c_str(), "%4d-%2d%n", &year, &month, &used) != 2 ||
-      used != static_cast<int>(text.size()) || text.size() != 7) {
-    return false;
-  }
-  *out = date::year{year} / month;
-  return out->ok() && year >= 1970;
-}
-
 void Render(const StatementOptions& options, const Config& config, const CycleStatements& cycle,
             std::ostream& out) {
   const std::string& site = config.site.name;
@@ -64,9 +53,9 @@ int RunStatement(const StatementOptions& options, std::ostream& out, std::ostrea
     err << "ampledger: statement: --format csv needs --unit (one statement per file)\n";
     return 2;
   }
-  date::year_month month;
-  if (!ParseMonth(options.cycle, &month)) {
-    err << "ampledger: statement: --cycle: expected a month YYYY-MM, got \"" << options.cycle
+  std::optional<date::year_month> month = ParseCycleMonth(options.cycle);
+  if (!month) {
+    err << "ampledger: statement: --cycle: expected the month a cycle starts in, YYYY-MM (1970-01 or later), got \"" << options.cycle
         << "\"\n";
     return 2;
   }
@@ -107,7 +96,7 @@ int RunStatement(const StatementOptions& options, std::ostream& out, std::ostrea
     return 1;
   }
   Result<CycleStatements> cycle =
-      QueryCycleStatements(**db, *series, *config, *schedule, *local, month);
+      QueryCycleStatements(**db, *series, *config, *schedule, *local, *month);
   if (!cycle.ok()) {
     err << "ampledger: statement: " << cycle.status().ToString() << "\n";
     return 1;

@@ -26,6 +26,33 @@ std::string Format(date::year_month_day day) {
   return text;
 }
 
+}  // namespace
+
+std::optional<date::year_month> ParseCycleMonth(std::string_view text) {
+  auto digits = [&](size_t from, size_t count) {
+    int value = 0;
+    for (size_t i = from; i < from + count; ++i) {
+      if (text[i] < '0' || text[i] > '9') return -1;
+      value = value * 10 + (text[i] - '0');
+    }
+    return value;
+  };
+  if (text.size() != 7 || text[4] != '-') return std::nullopt;
+  const int year = digits(0, 4);
+  const int month = digits(5, 2);
+  if (year < 1970 || month < 1 || month > 12) return std::nullopt;
+  return date::year{year} / date::month{static_cast<unsigned>(month)};
+}
+
+std::string CycleMonthName(date::year_month month) {
+  char text[16];
+  std::snprintf(text, sizeof text, "%04d-%02u", static_cast<int>(month.year()),
+                static_cast<unsigned>(month.month()));
+  return text;
+}
+
+namespace {
+
 Status CheckCycleDay(int cycle_day) {
   if (cycle_day < 1 || cycle_day > 28) {
     return Status::InvalidArgument("billing cycle day " + std::to_string(cycle_day) +

@@ -16,7 +16,9 @@
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include <date/date.h>
@@ -45,6 +47,12 @@ struct BillingCycle {
   date::year_month_day next_first_day;
   TimeRange range;
 };
+
+// A billing cycle's name: the month it starts in, "YYYY-MM" (`ampledger statement --cycle`,
+// the API's {cycle}). Parse: exactly four digits, "-", two digits; 1970-01 or later; else
+// nullopt.
+std::optional<date::year_month> ParseCycleMonth(std::string_view text);
+std::string CycleMonthName(date::year_month month);
 
 // What a local clock and calendar show at one instant.
 struct LocalMoment {

@@ -296,7 +296,8 @@ TEST_SUITE("daemon") {
     Run cycle = Ampledger(base + " --cycle 2026-3");
     CHECK(cycle.exit_code == 2);
     CHECK(cycle.output ==
-          "ampledger: statement: --cycle: expected a month YYYY-MM, got \"2026-3\"\n");
+          "ampledger: statement: --cycle: expected the month a cycle starts in, YYYY-MM "
+          "(1970-01 or later), got \"2026-3\"\n");
     Run csv = Ampledger(base + " --cycle 2026-03 --format csv");
     CHECK(csv.exit_code == 2);
     CHECK(csv.output ==

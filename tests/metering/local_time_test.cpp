@@ -41,6 +41,17 @@ TEST_SUITE("metering") {
     CHECK(buckets->size() == 96);
   }
 
+  TEST_CASE("a billing cycle's name is the month it starts in, YYYY-MM") {
+    CHECK(ParseCycleMonth("2026-03") == 2026_y / date::March);
+    CHECK(ParseCycleMonth("1970-01") == 1970_y / date::January);
+    CHECK(CycleMonthName(2026_y / date::March) == "2026-03");
+    for (const char* bad : {"2026-3", "2026-13", "2026-00", "1969-12", "2026/03", "+026-03",
+                            "2026-+3", " 2026-03", "2026-03 ", "20260-3", "", "２０２６-03"}) {
+      CAPTURE(bad);
+      CHECK_FALSE(ParseCycleMonth(bad).has_value());
+    }
+  }
+
   TEST_CASE("an invalid date is refused") {
     LocalTime utc = Zone("UTC");
     Result<TimeRange> day = utc.Day(2026_y / 2 / 30);
