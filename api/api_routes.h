@@ -17,6 +17,7 @@
 #include <string>
 
 #include "api/http_server.h"
+#include "api/mqtt_publisher.h"
 #include "api/token.h"
 #include "config/config.h"
 #include "daemon/metering/tariff_schedule.h"
@@ -41,6 +42,8 @@ struct ApiContext {
   // The site's tariffs by date (Service::tariffs()); nullptr or empty = the site has none, and
   // the cost, tariff, cycle and statement routes answer 404 saying so.
   const TariffSchedule* tariffs = nullptr;
+  // The MQTT publisher's counters for /metrics; nullptr = [mqtt] is off.
+  const MqttStats* mqtt = nullptr;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);

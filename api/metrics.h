@@ -12,6 +12,7 @@
 #include <string>
 #include <vector>
 
+#include "api/mqtt_publisher.h"
 #include "daemon/ingest/ingest_stats.h"
 
 namespace ampledger {
@@ -35,6 +36,7 @@ struct MetricsSnapshot {
   bool writer_healthy = true;
   std::uint64_t database_bytes = 0;  // the database file plus its WAL
   std::vector<CircuitPower> live;    // circuits with a reading in the last few minutes
+  const MqttStats* mqtt = nullptr;   // the MQTT publisher's; nullptr = [mqtt] is off
 };
 
 // The whole exposition; in OpenMetrics it ends with "# EOF\n".
