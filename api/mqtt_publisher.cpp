@@ -177,8 +177,8 @@ void MqttPublisher::Failed(const std::string& why) {
     if (options_.warn && PowerOfTwo(failures_)) {
       options_.warn("mqtt: cannot connect to " + config_.host + ":" +
                     std::to_string(config_.port) + ": " + why + " (" +
-                    std::to_string(failures_) + " failures in a row; retrying in " +
-                    std::to_string(RetryDelay(failures_) / 1000.0) + " s)");
+                    std::to_string(failures_) + " failures in a row; next try in " +
+                    std::to_string(RetryDelay(failures_)) + " ms)");
     }
   }
   stats_.connected = false;

@@ -175,6 +175,49 @@ TEST_CASE("mqtt feeder: live power per circuit, an alert and a finished cycle re
   writer->Stop();
 }
 
+TEST_CASE("mqtt feeder: live_change_watts skips small moves of a circuit's power") {
+  testing::TempDir dir;
+  Config config = Site(dir, 1);  // the publisher is never started: its outbox keeps all
+  config.mqtt.live_change_watts = 100;
+  config.mqtt.live_refresh_seconds = 3600;
+  config.alerts.clear();
+  std::unique_ptr<Database> db = std::move(Database::Open(config.storage).value());
+  SeriesMap series = RegisterSeries(*db, config).value();
+  std::unique_ptr<ReadingWriter> writer =
+      std::move(ReadingWriter::Start(config, db.get(), series).value());
+  MqttPublisher publisher(config.mqtt, static_cast<int>(config.circuits.size()));
+  MqttFeeder feeder(config, series, config.storage.path, nullptr, &publisher);
+  feeder.Start();
+  const UnixMs base = WallClockMs() / 10'000 * 10'000 - 600'000;
+  // Both circuits in one transaction, so one look at the database sees both.
+  auto store = [&](int step, double dryer_watts, double heater_watts) {
+    ReadingBatch batch;
+    for (auto [channel, watts] : {std::pair{0, dryer_watts}, std::pair{1, heater_watts}}) {
+      ChannelReading r;
+      r.channel = channel;
+      r.end_ms = base + step * 10'000;
+      r.duration_ms = 10'000;
+      r.real_watts = watts;
+      r.apparent_va = watts;
+      batch.readings.push_back(r);
+    }
+    std::promise<Status> done;
+    writer->Submit(std::move(batch), [&](const Status& s) { done.set_value(s); });
+    REQUIRE(done.get_future().get().ok());
+  };
+  const MqttOutbox& outbox = publisher.outbox();
+  store(1, 1000, 0);
+  REQUIRE(MqttProbe::WaitFor([&] { return outbox.live_waiting() == 2; }));
+  store(2, 1050, 5000);  // the dryer moved 50 W: skipped; the heater 5000 W: pushed
+  REQUIRE(MqttProbe::WaitFor([&] { return outbox.live_superseded() >= 1; }));
+  CHECK(outbox.live_superseded() == 1);
+  store(3, 1200, 0);  // 200 W from the 1000 W last pushed: pushed, and the heater again
+  REQUIRE(MqttProbe::WaitFor([&] { return outbox.live_superseded() >= 3; }));
+  CHECK(outbox.live_superseded() == 3);
+  feeder.Stop();
+  writer->Stop();
+}
+
 }  // TEST_SUITE
 
 }  // namespace
