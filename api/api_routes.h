@@ -17,7 +17,6 @@
 #include <string>
 
 #include "api/http_server.h"
-#include "api/mqtt_publisher.h"
 #include "api/token.h"
 #include "config/config.h"
 #include "daemon/metering/tariff_schedule.h"
@@ -28,6 +27,8 @@
 #include "storage/series.h"
 
 namespace ampledger {
+
+struct MqttStats;  // api/mqtt_publisher.h
 
 // What the routes read. Every pointer must outlive the server.
 struct ApiContext {

@@ -3,6 +3,8 @@
 #include <cmath>
 #include <cstdio>
 
+#include "api/mqtt_publisher.h"
+
 namespace ampledger {
 
 namespace {

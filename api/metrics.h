@@ -12,10 +12,11 @@
 #include <string>
 #include <vector>
 
-#include "api/mqtt_publisher.h"
 #include "daemon/ingest/ingest_stats.h"
 
 namespace ampledger {
+
+struct MqttStats;  // api/mqtt_publisher.h
 
 inline constexpr const char* kOpenMetricsContentType =
     "application/openmetrics-text; version=1.0.0; charset=utf-8";

@@ -14,7 +14,6 @@
 // One thread. Start(), Stop() from the owner.
 #pragma once
 
-#include <atomic>
 #include <condition_variable>
 #include <functional>
 #include <mutex>

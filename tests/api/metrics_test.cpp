@@ -4,6 +4,7 @@
 
 #include <cstdlib>
 
+#include "api/mqtt_publisher.h"
 #include "test_util.h"
 
 namespace ampledger {
