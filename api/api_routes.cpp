@@ -178,6 +178,7 @@ Result<HttpResponse> Metrics(const ApiContext& context, const Database& db,
   snapshot.ingest = context.ingest;
   snapshot.kernel_drops = context.receiver->kernel_drops();
   snapshot.writer_healthy = context.writer->Health().ok();
+  snapshot.mqtt = context.mqtt;
   snapshot.database_bytes =
       FileBytes(context.database_path) + FileBytes(context.database_path + "-wal");
   for (size_t i = 0; i < live.size(); ++i) {

@@ -28,6 +28,8 @@
 
 namespace ampledger {
 
+struct MqttStats;  // api/mqtt_publisher.h
+
 // What the routes read. Every pointer must outlive the server.
 struct ApiContext {
   const Config* config;
@@ -41,6 +43,8 @@ struct ApiContext {
   // The site's tariffs by date (Service::tariffs()); nullptr or empty = the site has none, and
   // the cost, tariff, cycle and statement routes answer 404 saying so.
   const TariffSchedule* tariffs = nullptr;
+  // The MQTT publisher's counters for /metrics; nullptr = [mqtt] is off.
+  const MqttStats* mqtt = nullptr;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);

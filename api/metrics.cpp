@@ -3,6 +3,8 @@
 #include <cmath>
 #include <cstdio>
 
+#include "api/mqtt_publisher.h"
+
 namespace ampledger {
 
 namespace {
@@ -65,6 +67,33 @@ class Exposition {
   std::string out_;
 };
 
+// The MQTT publisher's families, present only when [mqtt] is enabled.
+void FormatMqtt(const MqttStats& mqtt, Exposition& exposition) {
+  std::string& out = exposition.text();
+  exposition.Family("ampledger_mqtt_connected", "gauge",
+                    "1 while connected to the MQTT broker, else 0.");
+  out += std::string("ampledger_mqtt_connected ") + (mqtt.connected ? "1" : "0") + "\n";
+  exposition.Counter("ampledger_mqtt_connects", "Connections the MQTT broker accepted.",
+                     mqtt.connects.load());
+  exposition.Counter("ampledger_mqtt_connect_failures",
+                     "MQTT connection attempts refused, failed or unanswered.",
+                     mqtt.connect_failures.load());
+  exposition.Counter("ampledger_mqtt_disconnects", "Accepted MQTT connections lost later.",
+                     mqtt.disconnects.load());
+  exposition.Counter("ampledger_mqtt_published",
+                     "MQTT messages sent (QoS 0) or acknowledged by the broker (QoS 1, 2).",
+                     mqtt.published.load());
+  exposition.Counter("ampledger_mqtt_events_dropped",
+                     "Events dropped because mqtt.queue_events were already waiting.",
+                     mqtt.outbox->events_dropped());
+  exposition.Counter("ampledger_mqtt_live_superseded",
+                     "Live values replaced by a newer one before they were sent.",
+                     mqtt.outbox->live_superseded());
+  exposition.Family("ampledger_mqtt_events_waiting", "gauge",
+                    "Events waiting for the MQTT broker.");
+  out += "ampledger_mqtt_events_waiting " + std::to_string(mqtt.outbox->events_waiting()) + "\n";
+}
+
 }  // namespace
 
 std::string FormatMetrics(const MetricsSnapshot& snapshot, MetricsFormat format) {
@@ -110,6 +139,7 @@ std::string FormatMetrics(const MetricsSnapshot& snapshot, MetricsFormat format)
     out += "ampledger_circuit_power_watts{circuit=\"" + EscapeLabel(power.circuit) +
            "\",direction=\"" + EscapeLabel(power.direction) + "\"} " + Float(power.watts) + "\n";
   }
+  if (snapshot.mqtt != nullptr) FormatMqtt(*snapshot.mqtt, exposition);
   return exposition.Finish();
 }
 

@@ -16,6 +16,8 @@
 
 namespace ampledger {
 
+struct MqttStats;  // api/mqtt_publisher.h
+
 inline constexpr const char* kOpenMetricsContentType =
     "application/openmetrics-text; version=1.0.0; charset=utf-8";
 inline constexpr const char* kPrometheusTextContentType =
@@ -35,6 +37,7 @@ struct MetricsSnapshot {
   bool writer_healthy = true;
   std::uint64_t database_bytes = 0;  // the database file plus its WAL
   std::vector<CircuitPower> live;    // circuits with a reading in the last few minutes
+  const MqttStats* mqtt = nullptr;   // the MQTT publisher's; nullptr = [mqtt] is off
 };
 
 // The whole exposition; in OpenMetrics it ends with "# EOF\n".

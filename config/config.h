@@ -15,6 +15,7 @@
 
 #include <date/date.h>
 
+#include "config/mqtt_config.h"
 #include "config/status.h"
 #include "config/tariff_config.h"
 
@@ -254,6 +255,7 @@ struct Config {
   IngestConfig ingest;
   HttpConfig http;
   LogConfig log;
+  MqttConfig mqtt;  // [mqtt]: off by default
 
   // Look-ups by id; nullptr when absent.
   const NodeConfig* FindNode(const std::string& id) const;

@@ -138,6 +138,10 @@ std::string DescribeConfig(const Config& config) {
   out << "nodes report to UDP " << config.ingest.listen << "\n";
   out << "HTTP API on " << config.http.listen
       << (config.http.tls_certificate.empty() ? "" : " (TLS)") << "\n";
+  if (config.mqtt.enabled) {  // the password is never shown
+    out << "MQTT: broker " << config.mqtt.host << " port " << config.mqtt.port << ", topics under "
+        << config.mqtt.topic_prefix << "/\n";
+  }
   out << "log level: " << config.log.level << "\n";
   return out.str();
 }

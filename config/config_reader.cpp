@@ -13,6 +13,7 @@
 
 #include "config/alert_rule_reader.h"
 #include "config/hex.h"
+#include "config/mqtt_reader.h"
 #include "config/table_reader.h"
 #include "config/tariff_reader.h"
 
@@ -62,7 +63,7 @@ class ConfigReader {
   Status Read(const toml::table& root, Config* config) {
     TableReader r(&context_, root, "");
     r.AllowOnly({"site", "node", "circuit", "unit", "shared", "remainder", "alert", "webhook",
-                 "storage", "ingest", "http", "log"});
+                 "storage", "ingest", "http", "log", "mqtt"});
     ReadSite(r, config);
     ReadNodes(r, &config->nodes);
     ReadCircuits(r, config->site, &config->circuits);
@@ -101,6 +102,11 @@ class ConfigReader {
         config->log.level = std::string(level);
       }
     }
+    if (const toml::table* table = r.Table("mqtt", "[mqtt]")) {
+      TableReader mqtt(&context_, *table, "mqtt");
+      ReadMqtt(mqtt, base_dir_, &config->mqtt);
+    }
+    FillMqttDefaults(config->site.name, &config->mqtt);
     return context_.error();
   }
 

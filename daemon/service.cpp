@@ -8,6 +8,8 @@
 
 #include "api/api_routes.h"
 #include "api/http_server.h"
+#include "api/mqtt_feeder.h"
+#include "api/mqtt_publisher.h"
 #include "api/web_routes.h"
 #include "api/webhook_sender.h"
 #include "daemon/ingest/ingest_stats.h"
@@ -120,6 +122,10 @@ class ServiceImpl {
 
     ApiContext api{&config_, &series_, config_.storage.path, writer_.get(), &stats_,
                    receiver_.get()};
+    if (config_.mqtt.enabled) {
+      if (Status started = StartMqtt(); !started.ok()) return started;
+      api.mqtt = &mqtt_->stats();
+    }
     api.alerts = alerts_.get();
     api.tariffs = &tariffs_;
     AddApiRoutes(http_, api);
@@ -132,12 +138,31 @@ class ServiceImpl {
     return http_.Start();
   }
 
+  // Live power and events to a broker ([mqtt]); they read committed rows only.
+  Status StartMqtt() {
+    MqttPublisherOptions options;
+    options.time_zone = config_.site.time_zone;
+    options.info = [](const std::string& line) { spdlog::info("{}", line); };
+    options.warn = [](const std::string& line) { spdlog::warn("{}", line); };
+    mqtt_ = std::make_unique<MqttPublisher>(config_.mqtt,
+                                            static_cast<int>(config_.circuits.size()), options);
+    if (Status started = mqtt_->Start(); !started.ok()) return started;
+    MqttFeederOptions feeder_options;
+    feeder_options.warn = options.warn;
+    mqtt_feeder_ = std::make_unique<MqttFeeder>(config_, series_, config_.storage.path,
+                                                &alerts_->feed(), mqtt_.get(), feeder_options);
+    mqtt_feeder_->Start();
+    return Status::Ok();
+  }
+
   // Stops in dependency order: no new datagrams, then the writer flushes (its completions
   // still send acknowledgements through the open socket), then the socket and the API.
   void StopParts() {
     stopping_ = true;
     if (ingest_thread_.joinable()) ingest_thread_.join();
     if (webhooks_) webhooks_->Stop();
+    if (mqtt_feeder_) mqtt_feeder_->Stop();  // before the feed it waits on closes
+    if (mqtt_) mqtt_->Stop();
     if (alerts_) alerts_->Stop();  // no more timer ticks; long-polls return
     if (writer_) writer_->Stop();
     http_.Stop();
@@ -145,6 +170,8 @@ class ServiceImpl {
     receiver_.reset();
     writer_.reset();
     webhooks_.reset();
+    mqtt_feeder_.reset();
+    mqtt_.reset();
     alerts_.reset();
     db_.reset();
   }
@@ -159,6 +186,8 @@ class ServiceImpl {
   std::unique_ptr<AlertRecorder> alerts_;  // the writer's hook: outlives it
   std::unique_ptr<ReadingWriter> writer_;
   std::unique_ptr<WebhookSender> webhooks_;
+  std::unique_ptr<MqttPublisher> mqtt_;      // [mqtt] enabled only
+  std::unique_ptr<MqttFeeder> mqtt_feeder_;  // reads the feed of alerts_, pushes to mqtt_
   std::unique_ptr<UdpReceiver> receiver_;
   std::unique_ptr<IngestLoop> ingest_;
   std::thread ingest_thread_;

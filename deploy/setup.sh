@@ -14,7 +14,7 @@ packages=(
   build-essential cmake pkg-config git ca-certificates tzdata
   libsqlite3-dev sqlite3 nlohmann-json3-dev libspdlog-dev libcpp-httplib-dev doctest-dev
   libtomlplusplus-dev libhowardhinnant-date-dev libssl-dev libcli11-dev
-  libxml2-dev
+  libxml2-dev libmosquitto-dev
 )
 if [ "$action" = test ]; then
   # Tools the test suite drives: clang and xxd for the fuzz target; systemd-analyze for the units;
@@ -27,6 +27,8 @@ if [ "$action" = test ]; then
   packages+=(chromium)
   # xmllint checks the ESPI (Green Button) exports from outside.
   packages+=(libxml2-utils)
+  # A real MQTT broker for the publisher's tests (started by them on 127.0.0.1).
+  packages+=(mosquitto)
   # node and npm from Debian unless the machine already has them (e.g. from another source).
   command -v node > /dev/null || packages+=(nodejs)
   command -v npm > /dev/null || packages+=(npm)

@@ -2,6 +2,11 @@
 
 #include <doctest/doctest.h>
 
+#include <cstdlib>
+
+#include "api/mqtt_publisher.h"
+#include "test_util.h"
+
 namespace ampledger {
 namespace {
 
@@ -42,6 +47,43 @@ TEST_SUITE("api") {
           != std::string::npos);
     CHECK(plain.find("# UNIT") == std::string::npos);
     CHECK(plain.find("# EOF") == std::string::npos);
+  }
+  TEST_CASE("FormatMetrics adds the MQTT publisher's families when it runs") {
+    IngestStats stats({"garage"});
+    MetricsSnapshot snapshot;
+    snapshot.ingest = &stats;
+    CHECK(FormatMetrics(snapshot, MetricsFormat::kOpenMetrics).find("mqtt") ==
+          std::string::npos);  // [mqtt] off: no families
+    MqttOutbox outbox(1, 2);
+    for (int i = 0; i < 5; ++i) outbox.PushEvent({"t", "{}", 1, false});
+    MqttStats mqtt;
+    mqtt.connected = true;
+    mqtt.published = 41;
+    mqtt.connects = 2;
+    mqtt.connect_failures = 7;
+    mqtt.disconnects = 1;
+    mqtt.outbox = &outbox;
+    snapshot.mqtt = &mqtt;
+    const std::string open = FormatMetrics(snapshot, MetricsFormat::kOpenMetrics);
+    CHECK(open.find("# TYPE ampledger_mqtt_connected gauge\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_connected 1\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_published_total 41\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_connects_total 2\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_connect_failures_total 7\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_disconnects_total 1\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_events_dropped_total 3\n") != std::string::npos);
+    CHECK(open.find("\nampledger_mqtt_events_waiting 2\n") != std::string::npos);
+    CHECK(open.substr(open.size() - 6) == "# EOF\n");
+
+    // promtool (the Prometheus project's checker, Debian package prometheus) lints the
+    // Prometheus text format: names, types, help; it prints nothing when all is well.
+    testing::TempDir dir;
+    testing::WriteFile(dir.File("metrics.txt"),
+                       FormatMetrics(snapshot, MetricsFormat::kPrometheusText));
+    const std::string command = "promtool check metrics < '" + dir.File("metrics.txt") +
+                                "' > '" + dir.File("report.txt") + "' 2>&1";
+    CHECK(std::system(command.c_str()) == 0);
+    CHECK(testing::ReadFile(dir.File("report.txt")) == "");
   }
 }
 

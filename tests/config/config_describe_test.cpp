@@ -47,6 +47,19 @@ TEST_CASE("the summary of the minimal config, whole") {
   CHECK(DescribeConfig(*config).find(kTestKeyHex) == std::string::npos);
 }
 
+TEST_CASE("the MQTT broker in the summary, without its password") {
+  Result<Config> config = ParseConfig(kMinimalConfig +
+                                          "[mqtt]\nenabled = true\nhost = \"broker.lan\"\n"
+                                          "username = \"meter\"\npassword = \"hunter2-long\"\n",
+                                      "/srv/ampledger/site.toml");
+  REQUIRE(config.ok());
+  const std::string summary = DescribeConfig(*config);
+  CHECK(summary.find("HTTP API on 127.0.0.1:8417\n"
+                     "MQTT: broker broker.lan port 1883, topics under ampledger/test-house/\n"
+                     "log level: info\n") != std::string::npos);
+  CHECK(summary.find("hunter2-long") == std::string::npos);
+}
+
 TEST_CASE("the tariffs in the summary, with their dated changes") {
   testing::TempDir dir;
   std::filesystem::create_directories(dir.path() / "rates");

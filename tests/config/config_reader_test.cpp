@@ -38,7 +38,7 @@ TEST_CASE("TOML syntax errors give the line and column") {
 TEST_CASE("unknown keys are errors, with the keys that were expected") {
   CHECK(ErrorOf(kMinimalConfig + "[sites]\n") ==
         "site.toml:17: sites: unknown key; expected one of site, node, circuit, unit, shared, "
-        "remainder, alert, webhook, storage, ingest, http, log");
+        "remainder, alert, webhook, storage, ingest, http, log, mqtt");
   CHECK(ErrorOf("[site]\nname = \"x\"\ntimezone = \"Europe/Paris\"\n") ==
         "site.toml:3: site.timezone: unknown key; expected one of name, time_zone, "
         "nominal_volts, currency, tariff_dir, tariff, tariff_change, billing_cycle_day, "

@@ -10,6 +10,7 @@
 #include "daemon/ingest/node_client.h"
 #include "process_util.h"
 #include "test_util.h"
+#include "tests/api/mqtt_test_broker.h"
 
 namespace ampledger {
 namespace {
@@ -93,6 +94,53 @@ listen = "127.0.0.1:)toml" + std::to_string(http_port) + R"toml("
     CHECK(testing::WaitExit(pid, std::chrono::seconds(20)) == 2);
     std::string log = testing::ReadFile(dir.File("serve.log"));
     CHECK(log.find(dir.File("bad.toml") + ":3: site.time_zone:") != std::string::npos);
+  }
+  TEST_CASE("a killed ampledger serve is reported offline on MQTT by the broker (its will)") {
+    testing::TempDir dir;
+    testing::MosquittoBroker broker(dir);
+    broker.Start();
+    const int http_port = testing::FreeLoopbackPort(SOCK_STREAM);
+    testing::WriteFile(dir.File("site.toml"), R"toml(
+[site]
+name = "Will test"
+time_zone = "UTC"
+nominal_volts = [230]
+[[node]]
+id = "probe"
+auth = "plain"
+[[node.channel]]
+id = "ct1"
+[[circuit]]
+id = "kettle"
+channels = ["probe/ct1"]
+[storage]
+path = "site.db"
+[ingest]
+listen = "127.0.0.1:0"
+[http]
+listen = "127.0.0.1:)toml" + std::to_string(http_port) + R"toml("
+[mqtt]
+enabled = true
+host = "127.0.0.1"
+port = )toml" + std::to_string(broker.port()) + "\n");
+    testing::MqttProbe probe(broker.port(), "ampledger/will-test/status");
+    pid_t pid = testing::SpawnProcess(
+        {testing::AmpledgerBinary(), "serve", "--config", dir.File("site.toml")},
+        dir.File("serve.log"));
+    REQUIRE(pid > 0);
+    REQUIRE_MESSAGE(testing::WaitHealthy(http_port, std::chrono::seconds(10)),
+                    testing::ReadFile(dir.File("serve.log")));
+    REQUIRE(testing::MqttProbe::WaitFor([&] { return probe.messages().size() == 1; }));
+    CHECK(probe.messages()[0].payload.find("\"online\"") != std::string::npos);
+    // No goodbye: the kernel closes the socket, and the broker publishes the will at once
+    // (MQTT 3.1.1 section 3.1.2.5: the will is published when the network connection is
+    // closed without a DISCONNECT).
+    ::kill(pid, SIGKILL);
+    CHECK(testing::WaitExit(pid, std::chrono::seconds(10)) == -1);
+    REQUIRE(testing::MqttProbe::WaitFor([&] { return probe.messages().size() == 2; }));
+    CHECK(probe.messages()[1].payload == R"({"reason":"connection lost","state":"offline"})");
+    CHECK(testing::ReadFile(dir.File("serve.log")).find("mqtt: connected to 127.0.0.1:") !=
+          std::string::npos);
   }
 }
 

@@ -15,6 +15,7 @@
 #include "daemon/ingest/node_client.h"
 #include "daemon/ingest/udp_receiver.h"
 #include "test_util.h"
+#include "tests/api/mqtt_test_broker.h"
 
 namespace ampledger {
 namespace {
@@ -250,6 +251,66 @@ TEST_SUITE("daemon") {
     REQUIRE(cleared.size() == 1);
     CHECK(cleared[0]["kind"] == "cleared");
     CHECK(nlohmann::json::parse(api.Get("/v1/alerts")->body)["alerts"].empty());
+  }
+  TEST_CASE("mqtt: readings over UDP reach a subscriber of the broker; counters in /metrics") {
+    testing::TempDir dir;
+    testing::MosquittoBroker broker(dir);
+    broker.Start();
+    Config config = BenchConfig(dir);
+    config.mqtt.enabled = true;
+    config.mqtt.host = "127.0.0.1";
+    config.mqtt.port = broker.port();
+    config.mqtt.live_interval_seconds = 1;
+    AlertRuleConfig& rule = config.alerts.emplace_back();
+    rule.id = "heater-high";
+    rule.kind = AlertKind::kPowerAbove;
+    rule.circuits = {"heater"};
+    rule.level_watts = 1000;
+    rule.clear_watts = 500;
+    const std::string prefix = "ampledger/test-bench";  // from the site name "Test bench"
+    REQUIRE(config.mqtt.topic_prefix == prefix);
+    testing::MqttProbe probe(broker.port(), prefix + "/#");
+    {
+      Service service(config);
+      REQUIRE(service.Start().ok());
+      NodeClientOptions options;
+      options.node = "bench";
+      options.key = BenchKey();
+      options.resend_after_ms = 20;
+      auto client = NodeClient::Open("127.0.0.1:" + std::to_string(service.udp_port()), options);
+      REQUIRE(client.ok());
+      const UnixMs end = WallClockMs();
+      for (std::uint32_t seq = 1; seq <= 3; ++seq) {
+        REQUIRE((*client)->Send(HeaterPack(1, seq, end - (3 - seq) * 10000, 2000, seq * 2e4))
+                    .ok());
+      }
+      DrainAcks(**client);
+      const std::string live_topic = prefix + "/circuit/heater/power";
+      REQUIRE(testing::MqttProbe::WaitFor([&] {
+        return !probe.On(live_topic).empty() &&
+               nlohmann::json::parse(probe.On(live_topic).back().payload)["reading_end_ms"] ==
+                   end;
+      }));
+      nlohmann::json live = nlohmann::json::parse(probe.On(live_topic).back().payload);
+      CHECK(live["watts"] == 2000.0);
+      CHECK(live["reading_end"].get<std::string>().ends_with("Z"));  // the site's zone is UTC
+      const std::string raised = prefix + "/event/raised/circuit/heater";
+      REQUIRE(testing::MqttProbe::WaitFor([&] { return probe.On(raised).size() == 1; }));
+      CHECK(nlohmann::json::parse(probe.On(raised)[0].payload)["rule"] == "heater-high");
+
+      httplib::Client api("127.0.0.1", service.http_port());
+      api.set_bearer_token_auth(testing::ViewerToken(config));
+      httplib::Result metrics = api.Get("/metrics");
+      REQUIRE(metrics);
+      CHECK(metrics->body.find("\nampledger_mqtt_connected 1\n") != std::string::npos);
+      CHECK(metrics->body.find("\nampledger_mqtt_connects_total 1\n") != std::string::npos);
+      service.RequestStop();
+      REQUIRE(service.Wait().ok());
+    }
+    // A clean stop says so on the status topic (retained), after the "online" of the start.
+    REQUIRE(testing::MqttProbe::WaitFor([&] { return probe.On(prefix + "/status").size() == 2; }));
+    CHECK(nlohmann::json::parse(probe.On(prefix + "/status")[0].payload)["state"] == "online");
+    CHECK(nlohmann::json::parse(probe.On(prefix + "/status")[1].payload)["state"] == "offline");
   }
 }
 

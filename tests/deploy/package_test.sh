@@ -37,6 +37,7 @@ dpkg-deb -I "$deb" > "$work/info"
 grep -q '^ Package: ampledger$' "$work/info" || fail "package name"
 grep -q '^ Depends: .*libsqlite3-0' "$work/info" || fail "shlibs dependencies"
 grep -q '^ Depends: .*systemd' "$work/info" || fail "systemd dependency"
+grep -q '^ Depends: .*libmosquitto1' "$work/info" || fail "libmosquitto dependency (MQTT)"
 for member in conffiles postinst prerm postrm; do
   grep -qE "^ +[0-9]+ bytes, +[0-9]+ lines +\*? *$member" "$work/info" || fail "control: $member"
 done
