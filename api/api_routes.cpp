@@ -1,5 +1,6 @@
 #include "api/api_routes.h"
 
+#include <algorithm>
 #include <chrono>
 #include <filesystem>
 #include <optional>
@@ -33,9 +34,9 @@ using nlohmann::json;
 // A request's scope, if it carries a valid token; nullopt without one (open routes).
 std::optional<Scope> OptionalScope(const ApiContext& context, const HttpRequest& request) {
   if (request.authorization.empty()) return std::nullopt;
-  Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
-  if (!db.ok()) return std::nullopt;
-  Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
+  Result<ReaderPool::Lease> reader = context.readers->Acquire();
+  if (!reader.ok()) return std::nullopt;
+  Result<std::optional<Scope>> scope = Authenticate(reader->db(), request.authorization);
   return scope.ok() ? *scope : std::nullopt;
 }
 
@@ -309,14 +310,25 @@ HttpResponse Unauthorized(const std::string& detail, bool token_presented) {
   return response;
 }
 
-// Wraps `handler` so it runs only for a valid bearer token, on the request's own reader
-// connection. The token is looked up on every request, so a revoked token stops at once.
-HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handler) {
-  return [context, reach, handler = std::move(handler)](
+// The context with its reader pool, made here when the caller has none (at most as many idle
+// connections as the server has resident threads).
+ApiContext WithReaders(ApiContext context) {
+  if (!context.readers) {
+    context.readers = std::make_shared<ReaderPool>(context.database_path,
+                                                   std::max(1, context.config->http.threads));
+  }
+  return context;
+}
+
+// Wraps `handler` so it runs only for a valid bearer token, on a reader connection leased for
+// the request. The token is looked up on every request, so a revoked token stops at once.
+HttpHandler Guarded(const ApiContext& caller_context, Reach reach, ScopedHandler handler) {
+  return [context = WithReaders(caller_context), reach, handler = std::move(handler)](
              const HttpRequest& request) -> Result<HttpResponse> {
-    Result<std::unique_ptr<Database>> db = Database::OpenReader(context.database_path);
-    if (!db.ok()) return db.status();
-    Result<std::optional<Scope>> scope = Authenticate(**db, request.authorization);
+    Result<ReaderPool::Lease> reader = context.readers->Acquire();
+    if (!reader.ok()) return reader.status();
+    const Database& db = reader->db();
+    Result<std::optional<Scope>> scope = Authenticate(db, request.authorization);
     if (!scope.ok()) return scope.status();
     if (!scope->has_value()) {
       return Unauthorized(request.authorization.empty()
@@ -328,7 +340,7 @@ HttpHandler Guarded(const ApiContext& context, Reach reach, ScopedHandler handle
       // The answer a path with no route gets: a unit token cannot tell the difference.
       return Status::NotFound("no resource at " + request.path);
     }
-    return handler(request, **db, **scope);
+    return handler(request, db, **scope);
   };
 }
 
@@ -338,7 +350,9 @@ HttpHandler RequireToken(const ApiContext& context, ScopedHandler handler) {
   return Guarded(context, Reach::kScoped, std::move(handler));
 }
 
-void AddApiRoutes(HttpServer& server, const ApiContext& context) {
+void AddApiRoutes(HttpServer& server, const ApiContext& caller_context) {
+  // One pool for every route, including those the route files add.
+  const ApiContext context = WithReaders(caller_context);
   auto site = std::make_shared<SiteZone>();
   Result<LocalTime> zone = LocalTime::ForZone(context.config->site.time_zone);
   if (zone.ok()) {

@@ -1,7 +1,7 @@
 // api/api_routes.h
 // The JSON API's routes under /v1, registered on an HttpServer. Handlers run on the server's
-// worker threads; each opens its own read-only database connection per request (WAL lets it
-// read while the writer writes), and reads the writer's health and the ingest counters, which
+// worker threads; each request leases a read-only database connection (api/reader_pool.h;
+// WAL lets it read while the writer writes), and reads the writer's health and the ingest counters, which
 // are thread-safe.
 //
 // Every route but /v1/health, /v1/ready and /v1/openapi.json (the OpenAPI 3.1 description of
@@ -14,9 +14,11 @@
 #pragma once
 
 #include <functional>
+#include <memory>
 #include <string>
 
 #include "api/http_server.h"
+#include "api/reader_pool.h"
 #include "api/token.h"
 #include "config/config.h"
 #include "daemon/metering/tariff_schedule.h"
@@ -45,11 +47,13 @@ struct ApiContext {
   const TariffSchedule* tariffs = nullptr;
   // The MQTT publisher's counters for /metrics; nullptr = [mqtt] is off.
   const MqttStats* mqtt = nullptr;
+  // Reader connections of database_path for the requests; AddApiRoutes makes them when null.
+  std::shared_ptr<ReaderPool> readers = nullptr;
 };
 
 void AddApiRoutes(HttpServer& server, const ApiContext& context);
 
-// A handler that runs for a valid bearer token, on the request's own reader connection, with
+// A handler that runs for a valid bearer token, on the request's leased reader connection, with
 // the token's scope (route files use it through RequireToken).
 using ScopedHandler =
     std::function<Result<HttpResponse>(const HttpRequest&, const Database&, const Scope&)>;

@@ -2,6 +2,8 @@
 #include "api/series_route.h"
 
 #include <algorithm>
+#include <cmath>
+#include <optional>
 #include <nlohmann/json.hpp>
 
 #include "api/api_limits.h"
@@ -55,6 +57,67 @@ HttpResponse CsvResponse(std::string body, const LocalTime& zone) {
   return response;
 }
 
+// nlohmann::json's text of one number, so the hand-written points below read exactly as a
+// dump would: what its serializer writes for a double (null when not finite, else its
+// shortest round-trip digits with ".0" on whole values, from detail::to_chars), without
+// making a serializer per number. tests/api/series_route_test.cpp holds the two equal.
+void AppendNumber(double value, std::string* out) {
+  if (!std::isfinite(value)) {
+    *out += "null";
+    return;
+  }
+  char text[64];
+  const char* end = nlohmann::detail::to_chars(text, text + sizeof text, value);
+  out->append(text, static_cast<std::size_t>(end - text));
+}
+void AppendNumberOrNull(bool present, double value, std::string* out) {
+  if (present) {
+    AppendNumber(value, out);
+  } else {
+    *out += "null";
+  }
+}
+
+// Appends the "points" array of a period series as JSON text, byte for byte what
+// nlohmann::json::dump() writes for an array of objects with these members (an object's
+// members in its sorted key order). Written directly because building a year of days as json
+// values (a std::map per point, a heap string per key and time), dumping and freeing them was
+// most of the route's CPU (perf on `query_scale`, issue 9). Times and quality names are
+// written without escaping: RFC 3339 text and QualityName() hold no quote, backslash or
+// control character.
+void AppendPointsJson(const std::vector<SeriesPoint>& points, const LocalTime& zone,
+                      std::string* text) {
+  std::string& out = *text;
+  out.reserve(out.size() + points.size() * 256);
+  out += '[';
+  // Periods are back to back (SeriesPeriods): a start is the previous end, formatted once.
+  std::string start;
+  std::optional<UnixMs> start_ms;  // the instant `start` holds
+  for (const SeriesPoint& point : points) {
+    if (&point != &points.front()) out += ',';
+    if (start_ms != point.period.start_ms) start = FormatLocalRfc3339(zone, point.period.start_ms);
+    std::string end = FormatLocalRfc3339(zone, point.period.end_ms);
+    out += "{\"apparent_energy_vah\":";
+    AppendNumber(point.apparent_vah, &out);
+    out += ",\"coverage\":";
+    AppendNumber(point.coverage, &out);
+    out += ",\"end\":\"" + end + "\",\"energy_wh\":";
+    AppendNumber(point.real_wh, &out);
+    out += ",\"max_w\":";
+    AppendNumberOrNull(point.has_data, point.max_watts, &out);
+    out += ",\"mean_w\":";
+    AppendNumber(point.MeanWatts(), &out);
+    out += ",\"min_w\":";
+    AppendNumberOrNull(point.has_data, point.min_watts, &out);
+    out += ",\"quality\":";
+    out += point.has_data ? "\"" + std::string(QualityName(point.quality)) + "\"" : "null";
+    out += ",\"start\":\"" + start + "\"}";
+    start = std::move(end);
+    start_ms = point.period.end_ms;
+  }
+  out += ']';
+}
+
 Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config,
                                   const SeriesMap& series, const LocalTime& zone,
                                   const Database& db, const SeriesSubject& subject) {
@@ -86,33 +149,27 @@ Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config
     }
     return CsvResponse(std::move(body), zone);
   }
-  json out = json::array();
-  for (const SeriesPoint& point : points) {
-    out.push_back({{"start", FormatLocalRfc3339(zone, point.period.start_ms)},
-                   {"end", FormatLocalRfc3339(zone, point.period.end_ms)},
-                   {"energy_wh", point.real_wh},
-                   {"apparent_energy_vah", point.apparent_vah},
-                   {"mean_w", point.MeanWatts()},
-                   {"min_w", point.has_data ? json(point.min_watts) : json(nullptr)},
-                   {"max_w", point.has_data ? json(point.max_watts) : json(nullptr)},
-                   {"coverage", point.coverage},
-                   {"quality", point.has_data ? json(QualityName(point.quality)) : json(nullptr)}});
-  }
   json circuit_ids = json::array();
   for (int circuit : subject.circuits) circuit_ids.push_back(config.circuits[circuit].id);
-  json body = {{subject.kind, subject.id},
-               {"circuits", circuit_ids},
-               {"step", SeriesStepName(query.step)},
-               {"from", FormatLocalRfc3339(zone, query.from_ms)},
-               {"to", FormatLocalRfc3339(zone, query.to_ms)},
-               {"time_zone", zone.zone_name()},
-               {"units",
-                {{"energy_wh", "Wh"}, {"apparent_energy_vah", "VAh"}, {"mean_w", "W"},
-                 {"min_w", "W"}, {"max_w", "W"}, {"total_energy_kwh", "kWh"},
-                 {"coverage", "fraction of the period measured, 0..1"}}},
-               {"total_energy_kwh", total_wh / 1000.0},
-               {"points", out}};
-  return HttpResponse::Json(body.dump());
+  // nlohmann::json writes an object's members in key order: the members before "points" and
+  // those after it are dumped apart and the points' text goes between them.
+  json before = {{"circuits", circuit_ids}, {"from", FormatLocalRfc3339(zone, query.from_ms)}};
+  json after = {{"step", SeriesStepName(query.step)},
+                {"to", FormatLocalRfc3339(zone, query.to_ms)},
+                {"time_zone", zone.zone_name()},
+                {"units",
+                 {{"energy_wh", "Wh"}, {"apparent_energy_vah", "VAh"}, {"mean_w", "W"},
+                  {"min_w", "W"}, {"max_w", "W"}, {"total_energy_kwh", "kWh"},
+                  {"coverage", "fraction of the period measured, 0..1"}}},
+                {"total_energy_kwh", total_wh / 1000.0}};
+  (std::string(subject.kind) < "points" ? before : after)[subject.kind] = subject.id;
+  std::string text = before.dump();
+  text.back() = ',';  // the closing brace
+  text += "\"points\":";
+  AppendPointsJson(points, zone, &text);
+  text += ',';
+  text.append(after.dump(), 1);  // without the opening brace
+  return HttpResponse::Json(std::move(text));
 }
 
 // "node/channel" of each flat channel index, in Config order.

@@ -133,6 +133,9 @@ int Main(int argc, char** argv) {
   httplib::Client api("127.0.0.1", site.http_port());
   api.set_bearer_token_auth(token);
   api.set_read_timeout(std::chrono::seconds(120));
+  // One connection for every request, as a dashboard's browser keeps one (httplib::Client
+  // otherwise sends Connection: close and connects again for each).
+  api.set_keep_alive(true);
   std::map<std::string, std::vector<double>> api_wh;  // circuit -> Wh per day
   std::vector<UnixMs> day_starts;                      // the API's local day boundaries
   const auto api_started = std::chrono::steady_clock::now();

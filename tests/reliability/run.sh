@@ -4,7 +4,9 @@
 # and writes their figures to BUILD_DIR/reliability-report.md (markdown, one section per
 # tool, each naming the command that produced it). `short` (what ctest runs in CI) uses
 # fewer repetitions; `full` (the default) is the suite's whole length. Exits non-zero if any
-# tool reports a failure; the report keeps every section either way.
+# tool reports a failure; the report keeps every section either way. `full` also runs the
+# three libFuzzer targets for 5 minutes each, and the test suites built with ThreadSanitizer
+# and with ASan + UBSan (tests/sanitizer/run.sh), in BUILD_DIR-thread and BUILD_DIR-address.
 set -u
 build=$(cd "${1:?usage: run.sh BUILD_DIR [short|full]}" && pwd)
 mode=${2:-full}
@@ -14,9 +16,9 @@ tools="$build/tests"
 
 case "$mode" in
   short) kills=5 flood=100000 many_seconds=20 tmpfs_mib=3 cuts=20 days=7 soak_minutes=
-    http_seconds=5 ;;
+    http_seconds=5 fuzz_seconds= ;;
   full) kills=20 flood=1000000 many_seconds=120 tmpfs_mib=6 cuts=100 days=365 soak_minutes=30
-    http_seconds=20 ;;
+    http_seconds=20 fuzz_seconds=300 ;;
   *) echo "run.sh: mode must be short or full, got $mode" >&2; exit 2 ;;
 esac
 
@@ -52,28 +54,52 @@ run "$tools/http_hostile" "$binary" "$http_seconds"
 # The soak needs minutes of warm-up before growth means anything: full only.
 [ -z "$soak_minutes" ] || run "$tools/soak" "$binary" "$soak_minutes"
 
-# full: the concurrent test suites built with ThreadSanitizer in a build dir of their own.
+# full: the three libFuzzer targets for minutes each (ctest runs them for 30 to 45 s).
 if [ "$mode" = full ]; then
   source_dir=$(cd "$(dirname "$0")/../.." && pwd)
-  tsan="$build-tsan"
-  suites=ingest,storage,api,daemon
-  {
-    echo "### ThreadSanitizer (\`cmake -DAMPLEDGER_TSAN=ON -B $tsan\`; \`$tsan/tests/ampledger_tests -ts=$suites\`)"
-    echo
-  } >> "$report"
-  if cmake -S "$source_dir" -B "$tsan" -DCMAKE_BUILD_TYPE=RelWithDebInfo -DAMPLEDGER_TSAN=ON \
-       > "$build/tsan-build.log" 2>&1 &&
-     cmake --build "$tsan" -j "$(nproc)" --target ampledger_tests >> "$build/tsan-build.log" 2>&1; then
-    TSAN_OPTIONS="second_deadlock_stack=1" \
-      "$tsan/tests/ampledger_tests" -ts=$suites > "$build/tsan-tests.log" 2>&1
+  for fuzzer in run config_run api_parameters_run; do
+    log="$build/fuzz-$fuzzer.log"
+    {
+      echo "### Fuzzer \`tests/fuzz/$fuzzer.sh $fuzz_seconds\` (started $(date -u '+%H:%M UTC'), load: $(cut -d' ' -f1-3 /proc/loadavg))"
+      echo
+    } >> "$report"
+    FUZZ_OUT="$build/fuzz" sh "$source_dir/tests/fuzz/$fuzzer.sh" "$fuzz_seconds" > "$log" 2>&1
     code=$?
-    echo "- exit $code; $(grep -c 'WARNING: ThreadSanitizer' "$build/tsan-tests.log") ThreadSanitizer reports; summary: $(grep -E '^\[doctest\] (test cases|assertions)' "$build/tsan-tests.log" | tr '\n' ' ')" >> "$report"
+    {
+      if [ $code -eq 77 ]; then
+        echo "- skipped: $(tail -1 "$log")"
+      else
+        echo "- exit $code ($([ $code -eq 0 ] && echo 'no crash, leak or timeout' || echo 'a finding: see the log and its crash-* input'))"
+        echo "- $(grep -E '^stat::number_of_executed_units|^stat::peak_rss_mb' "$log" | tr '\n' ' ')"
+        echo "- $(grep -E '^#[0-9]+.*(DONE|cov:)' "$log" | tail -1)"
+      fi
+      echo "- log: $log"
+      echo
+    } >> "$report"
+    [ $code -eq 0 ] || [ $code -eq 77 ] || failed=1
+  done
+fi
+
+# full: the concurrent test suites built with ThreadSanitizer in a build dir of their own
+# (tests/sanitizer/run.sh thread), and the unit suites under ASan + UBSan as CI runs them.
+if [ "$mode" = full ]; then
+  for kind in thread address; do
+    {
+      echo "### Sanitizer: $kind (\`tests/sanitizer/run.sh $kind $build-$kind\`)"
+      echo
+      echo "Started $(date -u '+%H:%M UTC'), \`uptime\`: $(uptime)"
+      echo
+    } >> "$report"
+    started=$(date +%s)
+    "$source_dir/tests/sanitizer/run.sh" "$kind" "$build-$kind" > "$build/sanitizer-$kind.log" 2>&1
+    code=$?
+    {
+      echo "- exit $code after $(( $(date +%s) - started )) s (build and run); $(grep -c -E 'WARNING: ThreadSanitizer|ERROR: AddressSanitizer|runtime error:|ERROR: LeakSanitizer' "$build/sanitizer-$kind.log") sanitizer reports; $(grep -E '^\[doctest\] (test cases|assertions)' "$build/sanitizer-$kind.log" | tr '\n' ' ')"
+      echo "- log: $build/sanitizer-$kind.log"
+      echo
+    } >> "$report"
     [ $code -eq 0 ] || failed=1
-  else
-    echo "- the ThreadSanitizer build failed: see $build/tsan-build.log" >> "$report"
-    failed=1
-  fi
-  echo >> "$report"
+  done
 fi
 
 echo "Load at the end: \`uptime\`: $(uptime)" >> "$report"
