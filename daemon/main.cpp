@@ -1,5 +1,6 @@
 // daemon/main.cpp: the `ampledger` command line. Each subcommand is a small function; the work
 // is done by the libraries below.
+#include <malloc.h>
 #include <signal.h>
 
 #include <CLI/CLI.hpp>
@@ -142,6 +143,11 @@ int Demo(const DemoOptions& options) {
 
 int main(int argc, char** argv) {
   using namespace ampledger;
+  // The API serves each connection on a thread of its own (api/connection_pool.h), and glibc
+  // gives threads malloc arenas of their own, up to eight per core, each keeping the memory
+  // it freed. Two arenas keep the daemon's resident memory from drifting upward as
+  // connection threads come and go (the soak of tests/reliability/REPORT.md).
+  mallopt(M_ARENA_MAX, 2);
   CLI::App app{"ampledger: energy records, bills and alerts from clamp-on current sensors"};
   app.set_version_flag("--version", AMPLEDGER_VERSION);
   app.require_subcommand(0, 1);

@@ -3,7 +3,8 @@
 # Builds the test binary (and the daemon it starts) with a sanitizer in BUILD_DIR, a build
 # folder of its own, and runs doctest suites under it; exits non-zero on the first finding.
 #   address: AddressSanitizer + UndefinedBehaviorSanitizer (CMake AMPLEDGER_SANITIZE), every
-#            unit suite; what CI runs after the ordinary tests (deploy/setup.sh test).
+#            unit suite. Run by hand and by tests/reliability/run.sh full; not yet in CI (a
+#            clean build of it takes about half an hour on 2 cores).
 #   thread:  ThreadSanitizer (AMPLEDGER_TSAN), the suites with threads of their own: ingest
 #            (UDP receiver), storage (writer thread), api (HTTP pool, long-polls, webhooks),
 #            daemon (the whole service); tests/reliability/run.sh full runs it.
