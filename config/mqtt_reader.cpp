@@ -126,23 +126,21 @@ void ReadMqtt(TableReader& r, const std::string& base_dir, MqttConfig* mqtt) {
   r.Integer("keepalive_seconds", &mqtt->keepalive_seconds, 5, 3600);
   r.Integer("event_qos", &mqtt->event_qos, 0, 2);
   r.Integer("queue_events", &mqtt->queue_events, 1, 100000);
+  // `key` (read as `value`) may not be below `floor_key` (read as `floor`).
+  auto at_least = [&r](const char* key, double value, const char* floor_key, double floor) {
+    if (r.failed() || value >= floor) return;
+    r.Fail(key, std::string("expected at least ") + floor_key + " (" + FormatNumber(floor) +
+                    "), got " + FormatNumber(value));
+  };
   r.Number("live_interval_seconds", &mqtt->live_interval_seconds, {1, 3600});
   r.Number("live_change_watts", &mqtt->live_change_watts, {0, 1e6});
   r.Number("live_refresh_seconds", &mqtt->live_refresh_seconds, {1, 86400});
-  if (!r.failed() && mqtt->live_refresh_seconds < mqtt->live_interval_seconds) {
-    r.Fail("live_refresh_seconds",
-           "expected at least live_interval_seconds (" +
-               FormatNumber(mqtt->live_interval_seconds) + "), got " +
-               FormatNumber(mqtt->live_refresh_seconds));
-  }
+  at_least("live_refresh_seconds", mqtt->live_refresh_seconds, "live_interval_seconds",
+           mqtt->live_interval_seconds);
   r.Number("reconnect_first_seconds", &mqtt->reconnect_first_seconds, {1, 3600});
   r.Number("reconnect_max_seconds", &mqtt->reconnect_max_seconds, {1, 3600});
-  if (!r.failed() && mqtt->reconnect_max_seconds < mqtt->reconnect_first_seconds) {
-    r.Fail("reconnect_max_seconds",
-           "expected at least reconnect_first_seconds (" +
-               FormatNumber(mqtt->reconnect_first_seconds) + "), got " +
-               FormatNumber(mqtt->reconnect_max_seconds));
-  }
+  at_least("reconnect_max_seconds", mqtt->reconnect_max_seconds, "reconnect_first_seconds",
+           mqtt->reconnect_first_seconds);
 }
 
 void FillMqttDefaults(const std::string& site_name, MqttConfig* mqtt) {
