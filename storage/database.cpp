@@ -188,7 +188,10 @@ Result<sqlite3*> OpenHandle(const std::string& path, int flags) {
 
 }  // namespace
 
-Database::~Database() { sqlite3_close(db_); }
+Database::~Database() {
+  statements_.Clear();  // sqlite3_close refuses a connection with statements left
+  sqlite3_close(db_);
+}
 
 Result<std::unique_ptr<Database>> Database::Open(const StorageConfig& options) {
   Result<sqlite3*> handle =
@@ -220,7 +223,7 @@ Result<std::unique_ptr<Database>> Database::OpenReader(const std::string& path) 
 }
 
 Result<Statement> Database::Prepare(std::string_view sql) const {
-  return Statement::Prepare(db_, path_, sql);
+  return Statement::Prepare(db_, path_, sql, &statements_);
 }
 
 Status Database::Exec(std::string_view sql, std::string_view what) const {

@@ -56,7 +56,8 @@ class Database {
   sqlite3* handle() const { return db_; }
   const std::string& path() const { return path_; }
 
-  // A prepared statement on this connection; it must not outlive the Database.
+  // A prepared statement on this connection; it must not outlive the Database. Finished
+  // statements are kept and handed out again for the same SQL (storage/statement_cache.h).
   Result<Statement> Prepare(std::string_view sql) const;
   // Runs parameterless SQL; errors say "<path>: <what>: <sqlite message>".
   Status Exec(std::string_view sql, std::string_view what) const;
@@ -72,6 +73,8 @@ class Database {
 
   sqlite3* db_;
   std::string path_;
+  // Enough for every query the API asks of one reader connection.
+  mutable StatementCache statements_{64};
 };
 
 }  // namespace ampledger

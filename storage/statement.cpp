@@ -21,22 +21,38 @@ Status SqliteStatus(sqlite3* db, int rc, const std::string& path, std::string_vi
   }
 }
 
-Statement::~Statement() { sqlite3_finalize(stmt_); }
+Statement::~Statement() { Release(); }
 
 Statement::Statement(Statement&& other) noexcept
-    : db_(other.db_), stmt_(std::exchange(other.stmt_, nullptr)), path_(std::move(other.path_)) {}
+    : db_(other.db_),
+      stmt_(std::exchange(other.stmt_, nullptr)),
+      path_(other.path_),
+      cache_(other.cache_) {}
 
 Statement& Statement::operator=(Statement&& other) noexcept {
   if (this != &other) {
-    sqlite3_finalize(stmt_);
+    Release();
     db_ = other.db_;
     stmt_ = std::exchange(other.stmt_, nullptr);
-    path_ = std::move(other.path_);
+    path_ = other.path_;
+    cache_ = other.cache_;
   }
   return *this;
 }
 
-Result<Statement> Statement::Prepare(sqlite3* db, const std::string& path, std::string_view sql) {
+void Statement::Release() {
+  if (cache_ != nullptr) {
+    cache_->Park(std::exchange(stmt_, nullptr));
+  } else {
+    sqlite3_finalize(std::exchange(stmt_, nullptr));
+  }
+}
+
+Result<Statement> Statement::Prepare(sqlite3* db, const std::string& path, std::string_view sql,
+                                     StatementCache* cache) {
+  if (cache != nullptr) {
+    if (sqlite3_stmt* parked = cache->Take(sql)) return Statement(db, parked, &path, cache);
+  }
   sqlite3_stmt* stmt = nullptr;
   int rc = sqlite3_prepare_v3(db, sql.data(), static_cast<int>(sql.size()),
                               SQLITE_PREPARE_PERSISTENT, &stmt, nullptr);
@@ -44,7 +60,10 @@ Result<Statement> Statement::Prepare(sqlite3* db, const std::string& path, std::
     sqlite3_finalize(stmt);
     return SqliteStatus(db, rc, path, "prepare \"" + std::string(sql.substr(0, 60)) + "\"");
   }
-  return Statement(db, stmt, path);
+  // Only a statement whose text is all of `sql` can be found again by it (text after the
+  // first statement is not compiled, and sqlite3_sql leaves it out).
+  if (cache != nullptr && std::string_view(sqlite3_sql(stmt)) != sql) cache = nullptr;
+  return Statement(db, stmt, &path, cache);
 }
 
 void Statement::Bind(int index, std::int64_t value) { sqlite3_bind_int64(stmt_, index, value); }
@@ -68,7 +87,7 @@ Result<bool> Statement::Step(std::string_view what) {
   int rc = sqlite3_step(stmt_);
   if (rc == SQLITE_ROW) return true;
   if (rc == SQLITE_DONE) return false;
-  return SqliteStatus(db_, rc, path_, what);
+  return SqliteStatus(db_, rc, *path_, what);
 }
 
 Status Statement::Run(std::string_view what) {

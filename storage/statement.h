@@ -11,6 +11,7 @@
 #include <string_view>
 
 #include "config/status.h"
+#include "storage/statement_cache.h"
 
 namespace ampledger {
 
@@ -29,8 +30,11 @@ class Statement {
   Statement(const Statement&) = delete;
   Statement& operator=(const Statement&) = delete;
 
-  // Compiles `sql` on `db` (which must outlive this); errors name `path`.
-  static Result<Statement> Prepare(sqlite3* db, const std::string& path, std::string_view sql);
+  // Compiles `sql` on `db`, or takes it from `cache` (may be null) and parks it there again
+  // when this statement is done with. `db`, `path` (which errors name) and `cache` must
+  // outlive this.
+  static Result<Statement> Prepare(sqlite3* db, const std::string& path, std::string_view sql,
+                                   StatementCache* cache = nullptr);
 
   // Parameters are numbered from 1.
   void Bind(int index, std::int64_t value);
@@ -55,12 +59,14 @@ class Statement {
   bool IsNull(int column) const;
 
  private:
-  Statement(sqlite3* db, sqlite3_stmt* stmt, const std::string& path)
-      : db_(db), stmt_(stmt), path_(path) {}
+  Statement(sqlite3* db, sqlite3_stmt* stmt, const std::string* path, StatementCache* cache)
+      : db_(db), stmt_(stmt), path_(path), cache_(cache) {}
+  void Release();  // parks or finalizes stmt_
 
   sqlite3* db_ = nullptr;
   sqlite3_stmt* stmt_ = nullptr;
-  std::string path_;
+  const std::string* path_ = nullptr;
+  StatementCache* cache_ = nullptr;
 };
 
 // Runs `sql` (one or more statements, no parameters) on `db`.
