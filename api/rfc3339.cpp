@@ -2,7 +2,6 @@
 #include "api/rfc3339.h"
 
 #include <chrono>
-#include <cstdio>
 
 namespace ampledger {
 namespace {
@@ -101,24 +100,41 @@ std::string FormatLocalRfc3339(const LocalTime& zone, UnixMs instant) {
     return FormatLocalRfc3339(UtcTime(), instant);
   }
   // Seconds and milliseconds are the same in every zone (offsets are whole minutes).
-  const UnixMs within_minute = ((instant % 60000) + 60000) % 60000;
-  char text[48];
-  int length = std::snprintf(text, sizeof text, "%04d-%02u-%02uT%02d:%02d:%02d",
-                             static_cast<int>(local.date.year()),
-                             static_cast<unsigned>(local.date.month()),
-                             static_cast<unsigned>(local.date.day()), local.minute_of_day / 60,
-                             local.minute_of_day % 60, static_cast<int>(within_minute / 1000));
-  std::string out(text, length);
+  const int within_minute = static_cast<int>(((instant % 60000) + 60000) % 60000);
+  // Written digit by digit: a year of daily points names some 10,000 times, and snprintf's
+  // format parsing was an eighth of such a request's CPU (query_scale, issue 9).
+  char text[32];
+  char* out = text;
+  auto digits = [&out](int value, int count) {
+    for (int i = count - 1; i >= 0; --i, value /= 10) out[i] = static_cast<char>('0' + value % 10);
+    out += count;
+  };
+  digits(year, 4);
+  *out++ = '-';
+  digits(static_cast<int>(static_cast<unsigned>(local.date.month())), 2);
+  *out++ = '-';
+  digits(static_cast<int>(static_cast<unsigned>(local.date.day())), 2);
+  *out++ = 'T';
+  digits(local.minute_of_day / 60, 2);
+  *out++ = ':';
+  digits(local.minute_of_day % 60, 2);
+  *out++ = ':';
+  digits(within_minute / 1000, 2);
   if (within_minute % 1000 != 0) {
-    std::snprintf(text, sizeof text, ".%03d", static_cast<int>(within_minute % 1000));
-    out += text;
+    *out++ = '.';
+    digits(within_minute % 1000, 3);
   }
   const int offset = local.utc_offset_seconds / 60;
-  if (offset == 0) return out + "Z";
-  const int magnitude = offset < 0 ? -offset : offset;
-  std::snprintf(text, sizeof text, "%c%02d:%02d", offset < 0 ? '-' : '+', magnitude / 60,
-                magnitude % 60);
-  return out + text;
+  if (offset == 0) {
+    *out++ = 'Z';
+  } else {
+    const int magnitude = offset < 0 ? -offset : offset;
+    *out++ = offset < 0 ? '-' : '+';
+    digits(magnitude / 60, 2);
+    *out++ = ':';
+    digits(magnitude % 60, 2);
+  }
+  return std::string(text, static_cast<std::size_t>(out - text));
 }
 
 }  // namespace ampledger

@@ -44,6 +44,12 @@ TEST_SUITE("api") {
           "2026-03-08T03:00:01.250-05:00");
     LocalTime utc = LocalTime::ForZone("UTC").value();
     CHECK(FormatLocalRfc3339(utc, 0) == "1970-01-01T00:00:00Z");
+    CHECK(FormatLocalRfc3339(utc, -1) == "1969-12-31T23:59:59.999Z");
+    CHECK(FormatLocalRfc3339(utc, *ParseRfc3339("9999-12-31T23:59:59.007Z")) ==
+          "9999-12-31T23:59:59.007Z");
+    LocalTime kathmandu = LocalTime::ForZone("Asia/Kathmandu").value();  // IANA tz: UTC+05:45
+    CHECK(FormatLocalRfc3339(kathmandu, *ParseRfc3339("2026-07-01T18:15:00Z")) ==
+          "2026-07-02T00:00:00+05:45");
     LocalTime kolkata = LocalTime::ForZone("Asia/Kolkata").value();  // IANA tz: UTC+05:30
     CHECK(FormatLocalRfc3339(kolkata, 0) == "1970-01-01T05:30:00+05:30");
     for (const char* text : {"2026-11-01T01:30:00-05:00", "2026-11-01T01:30:00-06:00"}) {
