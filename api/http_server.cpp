@@ -12,6 +12,7 @@
 
 #include "api/api_limits.h"
 #include "api/connection_pool.h"
+#include "api/content_coding.h"
 #include "api/problem.h"
 
 namespace ampledger {
@@ -56,6 +57,22 @@ std::optional<Problem> RefuseBeforeBody(const httplib::Request& request) {
     }
   }
   return std::nullopt;
+}
+
+// httplib chooses the answer's content coding from the request's Accept-Encoding after the
+// handler has run; this leaves the header naming only what ChooseContentCoding allows (gzip
+// or nothing). The request is httplib's own non-const object, handed to handlers as const.
+void OfferOnlyChosenCoding(const httplib::Request& request) {
+  auto& headers = const_cast<httplib::Headers&>(request.headers);
+  auto [first, last] = headers.equal_range("Accept-Encoding");
+  if (first == last) return;
+  std::string offered;
+  for (auto header = first; header != last; ++header) {
+    offered += (offered.empty() ? "" : ",") + header->second;
+  }
+  headers.erase(first, last);
+  const std::string_view chosen = ChooseContentCoding(offered);
+  if (!chosen.empty()) headers.emplace("Accept-Encoding", std::string(chosen));
 }
 
 }  // namespace
@@ -137,6 +154,7 @@ class HttpServer::Impl {
     server_->set_write_timeout(5);
     server_->set_pre_routing_handler([](const httplib::Request& request,
                                         httplib::Response& response) {
+      OfferOnlyChosenCoding(request);
       std::optional<Problem> refusal = RefuseBeforeBody(request);
       if (!refusal) return httplib::Server::HandlerResponse::Unhandled;
       response.set_header("Connection", "close");  // the unread body must not be parsed

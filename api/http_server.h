@@ -6,6 +6,7 @@
 //    are refused before the body is read (0.11.4 lets chunked bodies bypass its size limit);
 //  - a small payload limit (kMaxRequestBodyBytes);
 //  - exceptions become a 500 problem with no internals (0.11.4 would send e.what());
+//  - answers are gzip-coded for clients that accept it, never Brotli (api/content_coding.h);
 //  - unknown paths are 404 and known paths with another method 405 with Allow;
 //  - a connection thread per open connection, up to kMaxHttpConnectionThreads
 //    (api/connection_pool.h), so slow or idle clients do not hold every worker.
