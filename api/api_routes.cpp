@@ -1,5 +1,7 @@
 #include "api/api_routes.h"
 
+#include <malloc.h>
+
 #include <algorithm>
 #include <chrono>
 #include <filesystem>
@@ -182,6 +184,11 @@ Result<HttpResponse> Metrics(const ApiContext& context, const Database& db,
   snapshot.mqtt = context.mqtt;
   snapshot.database_bytes =
       FileBytes(context.database_path) + FileBytes(context.database_path + "-wal");
+  // Over every arena: uordblks is what the arenas hand out, hblkhd the large blocks mapped
+  // on their own, fordblks what the arenas hold free (glibc's malloc.h).
+  const struct mallinfo2 heap = mallinfo2();
+  snapshot.heap_in_use_bytes = heap.uordblks + heap.hblkhd;
+  snapshot.heap_free_bytes = heap.fordblks;
   for (size_t i = 0; i < live.size(); ++i) {
     if (seen[i]) snapshot.live.push_back(live[i]);
   }

@@ -131,6 +131,12 @@ std::string FormatMetrics(const MetricsSnapshot& snapshot, MetricsFormat format)
   exposition.Family("ampledger_database_bytes", "gauge", "Size of the database file and its WAL.",
                     "bytes");
   out += "ampledger_database_bytes " + std::to_string(snapshot.database_bytes) + "\n";
+  exposition.Family("ampledger_heap_in_use_bytes", "gauge",
+                    "Heap memory allocated and not freed (malloc's count).", "bytes");
+  out += "ampledger_heap_in_use_bytes " + std::to_string(snapshot.heap_in_use_bytes) + "\n";
+  exposition.Family("ampledger_heap_free_bytes", "gauge",
+                    "Freed heap memory malloc keeps for reuse rather than returning it.", "bytes");
+  out += "ampledger_heap_free_bytes " + std::to_string(snapshot.heap_free_bytes) + "\n";
 
   exposition.Family("ampledger_circuit_power_watts", "gauge",
                     "Latest mean real power per circuit (export circuits: power exported).",

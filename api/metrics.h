@@ -1,6 +1,6 @@
 // api/metrics.h
 // The /metrics exposition: ingest counters by outcome and refusal reason, readings stored, the
-// writer's health, the database's size, and live power per circuit as gauges. In the
+// writer's health, the database's size, the heap's, and live power per circuit as gauges. In the
 // OpenMetrics 1.0 text format for scrapers that ask for it (Accept:
 // application/openmetrics-text, as Prometheus does), else in the Prometheus text format 0.0.4
 // that older scrapers and promtool read. The two differ only in how a counter's family is
@@ -36,6 +36,10 @@ struct MetricsSnapshot {
   std::uint64_t kernel_drops = 0;
   bool writer_healthy = true;
   std::uint64_t database_bytes = 0;  // the database file plus its WAL
+  // malloc's own account (glibc mallinfo2): bytes handed out and not yet freed, and freed
+  // bytes it keeps for reuse. Growth of the first is a leak; of the second, fragmentation.
+  std::uint64_t heap_in_use_bytes = 0;
+  std::uint64_t heap_free_bytes = 0;
   std::vector<CircuitPower> live;    // circuits with a reading in the last few minutes
   const MqttStats* mqtt = nullptr;   // the MQTT publisher's; nullptr = [mqtt] is off
 };

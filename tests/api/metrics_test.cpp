@@ -18,6 +18,7 @@ TEST_SUITE("api") {
     MetricsSnapshot snapshot;
     snapshot.ingest = &stats;
     snapshot.database_bytes = 4096;
+    snapshot.heap_in_use_bytes = 3'000'000;
     snapshot.live = {{"dryer \"new\"", "consumption", 4800}, {"solar", "export", 1234.5}};
     const std::string text = FormatMetrics(snapshot, MetricsFormat::kOpenMetrics);
 
@@ -32,6 +33,10 @@ TEST_SUITE("api") {
           std::string::npos);
     CHECK(text.find("# TYPE ampledger_database_bytes gauge\n# UNIT ampledger_database_bytes "
                     "bytes\n") != std::string::npos);
+    CHECK(text.find("# UNIT ampledger_heap_in_use_bytes bytes\n# HELP ampledger_heap_in_use_bytes "
+                    "Heap memory allocated and not freed (malloc's count).\n"
+                    "ampledger_heap_in_use_bytes 3000000\n") != std::string::npos);
+    CHECK(text.find("ampledger_heap_free_bytes 0\n") != std::string::npos);
     CHECK(text.find("ampledger_circuit_power_watts{circuit=\"dryer \\\"new\\\"\","
                     "direction=\"consumption\"} 4800.0\n") != std::string::npos);
     CHECK(text.find("{circuit=\"solar\",direction=\"export\"} 1234.5\n") != std::string::npos);

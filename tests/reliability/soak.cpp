@@ -2,7 +2,8 @@
 // Steady load for a long time. 125 nodes x 8 channels report every second (1,000 readings/s,
 // live times, paced by the clock) while API clients ask for live values, a day of hourly
 // series and the energy of every circuit over the run, and long-polls wait on /v1/events.
-// Every 5 s it samples the daemon's resident memory, open file descriptors and WAL size.
+// Every 5 s it samples the daemon's resident memory, open file descriptors, WAL size and
+// malloc's count of heap in use (from /metrics).
 // After the warm-up (a sixth of the run, at least 3 minutes) it checks:
 //   - resident memory at the end is less than 5% above its value at the end of warm-up;
 //   - no file-descriptor growth: the count at the end is at most the most seen by warm-up end;
@@ -20,6 +21,7 @@
 #include <atomic>
 #include <chrono>
 #include <cstdio>
+#include <cstdlib>
 #include <mutex>
 #include <string>
 #include <thread>
@@ -38,7 +40,21 @@ struct Sample {
   long rss_kib = 0;
   int fds = 0;
   long long wal_bytes = 0;
+  long heap_in_use_kib = -1;  // from /metrics; -1 if it could not be read
 };
+
+// malloc's count of the daemon's heap in use (ampledger_heap_in_use_bytes in /metrics): unlike
+// resident memory it does not include what malloc keeps after frees, so it tells a leak from
+// fragmentation.
+long HeapInUseKiB(httplib::Client& api) {
+  auto answer = api.Get("/metrics");
+  if (!answer || answer->status != 200) return -1;
+  const std::string name = "\nampledger_heap_in_use_bytes ";
+  const std::size_t at = answer->body.find(name);
+  return at == std::string::npos
+             ? -1
+             : std::strtol(answer->body.c_str() + at + name.size(), nullptr, 10) / 1024;
+}
 
 int OpenFiles(pid_t pid) {
   DIR* dir = ::opendir(("/proc/" + std::to_string(pid) + "/fd").c_str());
@@ -174,6 +190,8 @@ int Main(int argc, char** argv) {
                          &polls_failed);
   }
 
+  httplib::Client metrics("127.0.0.1", site.http_port());
+  metrics.set_bearer_token_auth(token);
   std::vector<Sample> samples;
   const auto started = std::chrono::steady_clock::now();
   for (;;) {
@@ -181,7 +199,7 @@ int Main(int argc, char** argv) {
                               std::chrono::steady_clock::now() - started)
                               .count();
     samples.push_back({minute, ResidentKiB(site.pid()), OpenFiles(site.pid()),
-                       FileBytes(site.db_path() + "-wal")});
+                       FileBytes(site.db_path() + "-wal"), HeapInUseKiB(metrics)});
     if (minute >= run_time.count()) break;
     std::this_thread::sleep_for(kSampleEvery);
   }
@@ -205,7 +223,7 @@ int Main(int argc, char** argv) {
   while (warm + 1 < samples.size() && samples[warm].minute < warm_minutes) ++warm;
   const Sample& at_warm = samples[warm];
   const Sample& at_end = samples.back();
-  long rss_peak_after = 0;
+  long rss_peak_after = 0, heap_peak_after = 0;
   int fds_max_warm = 0, fds_max_after = 0;
   long long wal_first_half = 0, wal_second_half = 0;
   for (std::size_t i = 0; i < samples.size(); ++i) {
@@ -213,6 +231,7 @@ int Main(int argc, char** argv) {
     if (i <= warm) fds_max_warm = std::max(fds_max_warm, s.fds);
     if (i >= warm) {
       rss_peak_after = std::max(rss_peak_after, s.rss_kib);
+      heap_peak_after = std::max(heap_peak_after, s.heap_in_use_kib);
       fds_max_after = std::max(fds_max_after, s.fds);
     }
     long long& wal = s.minute < minutes / 2 ? wal_first_half : wal_second_half;
@@ -238,6 +257,14 @@ int Main(int argc, char** argv) {
               "peak after it, %ld KiB at the end: growth %.2f%% (limit 5%%): %s\n",
               samples.front().rss_kib, at_warm.rss_kib, at_warm.minute, rss_peak_after,
               at_end.rss_kib, rss_growth, rss_ok ? "ok" : "EXCEEDED");
+  std::printf("- heap in use (malloc's count, /metrics; a leak grows it, fragmentation does not): "
+              "%ld KiB after warm-up, %ld KiB peak after it, %ld KiB at the end: growth %.2f%% "
+              "(reported, not a limit)\n",
+              at_warm.heap_in_use_kib, heap_peak_after, at_end.heap_in_use_kib,
+              at_warm.heap_in_use_kib > 0
+                  ? 100.0 * static_cast<double>(at_end.heap_in_use_kib - at_warm.heap_in_use_kib) /
+                        static_cast<double>(at_warm.heap_in_use_kib)
+                  : 0.0);
   std::printf("- open files: %d at start, at most %d by warm-up end, at most %d after, %d at the "
               "end: %s\n",
               samples.front().fds, fds_max_warm, fds_max_after, at_end.fds,
@@ -257,11 +284,11 @@ int Main(int argc, char** argv) {
               static_cast<unsigned long long>(acked * kChannels),
               static_cast<unsigned long long>(packs), static_cast<long long>(stored),
               integrity.c_str(), exit_code);
-  std::printf("- samples (minute: RSS KiB, open files, WAL KiB):");
+  std::printf("- samples (minute: RSS KiB, heap in use KiB, open files, WAL KiB):");
   const std::size_t stride = std::max<std::size_t>(1, samples.size() / 12);
   for (std::size_t i = 0; i < samples.size(); i += stride) {
-    std::printf(" %.1f: %ld, %d, %lld;", samples[i].minute, samples[i].rss_kib, samples[i].fds,
-                samples[i].wal_bytes / 1024);
+    std::printf(" %.1f: %ld, %ld, %d, %lld;", samples[i].minute, samples[i].rss_kib,
+                samples[i].heap_in_use_kib, samples[i].fds, samples[i].wal_bytes / 1024);
   }
   std::printf("\n- result: %s\n\n", ok ? "PASS" : "FAIL");
   if (!ok) std::fprintf(stderr, "serve log:\n%s\n", ReadText(site.log_path()).c_str());
