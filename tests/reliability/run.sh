@@ -6,7 +6,7 @@
 # fewer repetitions; `full` (the default) is the suite's whole length. Exits non-zero if any
 # tool reports a failure; the report keeps every section either way. `full` also runs the
 # three libFuzzer targets for 5 minutes each, and the test suites built with ThreadSanitizer
-# and with ASan + UBSan (tests/sanitizer/run.sh), in BUILD_DIR-thread and BUILD_DIR-address.
+# and with ASan + UBSan (tests/sanitizer/run.sh), in BUILD_DIR/sanitizer-thread and -address.
 set -u
 build=$(cd "${1:?usage: run.sh BUILD_DIR [short|full]}" && pwd)
 mode=${2:-full}
@@ -81,17 +81,18 @@ if [ "$mode" = full ]; then
 fi
 
 # full: the concurrent test suites built with ThreadSanitizer in a build dir of their own
-# (tests/sanitizer/run.sh thread), and the unit suites under ASan + UBSan as CI runs them.
+# (tests/sanitizer/run.sh thread), and the unit suites under ASan + UBSan as CI runs them
+# (the same folder as ctest's sanitizer-address entry, so a built one is reused).
 if [ "$mode" = full ]; then
   for kind in thread address; do
     {
-      echo "### Sanitizer: $kind (\`tests/sanitizer/run.sh $kind $build-$kind\`)"
+      echo "### Sanitizer: $kind (\`tests/sanitizer/run.sh $kind $build/sanitizer-$kind\`)"
       echo
       echo "Started $(date -u '+%H:%M UTC'), \`uptime\`: $(uptime)"
       echo
     } >> "$report"
     started=$(date +%s)
-    "$source_dir/tests/sanitizer/run.sh" "$kind" "$build-$kind" > "$build/sanitizer-$kind.log" 2>&1
+    "$source_dir/tests/sanitizer/run.sh" "$kind" "$build/sanitizer-$kind" > "$build/sanitizer-$kind.log" 2>&1
     code=$?
     {
       echo "- exit $code after $(( $(date +%s) - started )) s (build and run); $(grep -c -E 'WARNING: ThreadSanitizer|ERROR: AddressSanitizer|runtime error:|ERROR: LeakSanitizer' "$build/sanitizer-$kind.log") sanitizer reports; $(grep -E '^\[doctest\] (test cases|assertions)' "$build/sanitizer-$kind.log" | tr '\n' ' ')"

@@ -3,8 +3,8 @@
 # Builds the test binary (and the daemon it starts) with a sanitizer in BUILD_DIR, a build
 # folder of its own, and runs doctest suites under it; exits non-zero on the first finding.
 #   address: AddressSanitizer + UndefinedBehaviorSanitizer (CMake AMPLEDGER_SANITIZE), every
-#            unit suite. Run by hand and by tests/reliability/run.sh full; not yet in CI (a
-#            clean build of it takes about half an hour on 2 cores).
+#            unit suite. ctest runs it as the entry sanitizer-address (so CI does), in
+#            build/sanitizer-address; a clean build of it takes about 20 minutes on 2 cores.
 #   thread:  ThreadSanitizer (AMPLEDGER_TSAN), the suites with threads of their own: ingest
 #            (UDP receiver), storage (writer thread), api (HTTP pool, long-polls, webhooks),
 #            daemon (the whole service); tests/reliability/run.sh full runs it.
