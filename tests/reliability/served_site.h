@@ -62,9 +62,14 @@ inline std::string QueryText(const std::string& db_path, const std::string& sql)
 class ServedSite {
  public:
   // The database is `db_name` in the site's folder (e.g. in a subfolder the caller mounts);
-  // the folder is removed with its contents when this is destroyed.
-  ServedSite(std::string binary, int nodes, std::string db_name = "site.db")
-      : binary_(std::move(binary)), nodes_(nodes), db_name_(std::move(db_name)) {
+  // the folder is removed with its contents when this is destroyed. `more_toml` is appended
+  // to the config (alert rules, say).
+  ServedSite(std::string binary, int nodes, std::string db_name = "site.db",
+             std::string more_toml = "")
+      : binary_(std::move(binary)),
+        nodes_(nodes),
+        db_name_(std::move(db_name)),
+        more_toml_(std::move(more_toml)) {
     std::string pattern =
         (std::filesystem::temp_directory_path() / "ampledger-reliability-XXXXXX").string();
     if (::mkdtemp(pattern.data()) != nullptr) dir_ = pattern;
@@ -142,12 +147,13 @@ class ServedSite {
             std::to_string(udp_port_) + "\"\n\n[http]\nlisten = \"127.0.0.1:" +
             std::to_string(http_port_) +
             "\"\n\n[log]\nlevel = \"warn\"\n";
-    return toml;
+    return toml + more_toml_;
   }
 
   std::string binary_;
   int nodes_;
   std::string db_name_;
+  std::string more_toml_;
   std::filesystem::path dir_;
   int udp_port_ = 0;
   int http_port_ = 0;
@@ -164,15 +170,17 @@ struct NodeTotals {
 // `every` while `running`, with times of consecutive 1-second intervals from `first_end_ms`;
 // keeps and resends the unacknowledged; then waits up to 60 s for every acknowledgement.
 // `paced`: pack k goes out at start + k x `every` (a steady rate, as a node's clock keeps),
-// rather than `every` after the previous send.
+// rather than `every` after the previous send. `max_unacked` is the node's window: with 1 it
+// sends the next pack only after the last was acknowledged, so its readings arrive in order.
 inline NodeTotals RunNode(int n, int udp_port, UnixMs first_end_ms,
                           std::chrono::microseconds every, const std::atomic<bool>& running,
-                          bool paced = false) {
+                          bool paced = false, std::size_t max_unacked = 512) {
   NodeTotals totals;
   NodeClientOptions options;
   options.node = NodeId(n);
   options.key = NodeKey();
   options.resend_after_ms = 300;
+  options.max_unacked = max_unacked;
   auto client = NodeClient::Open("127.0.0.1:" + std::to_string(udp_port), options);
   if (!client.ok()) return totals;
   NodeClient& node = **client;
