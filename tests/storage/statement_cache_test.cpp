@@ -26,6 +26,16 @@ struct Connection {
   sqlite3* db = nullptr;
 };
 
+// A new database at `path`, opened for writing, with a table t (a INTEGER) of our own.
+std::unique_ptr<Database> WriterWithTable(const std::string& path) {
+  StorageConfig storage;
+  storage.path = path;
+  Result<std::unique_ptr<Database>> db = Database::Open(storage);
+  REQUIRE(db.ok());
+  REQUIRE((*db)->Exec("CREATE TABLE t (a INTEGER)", "create").ok());
+  return std::move(db).value();
+}
+
 std::int64_t Count(const Database& db) {
   Result<Statement> count = db.Prepare("SELECT count(*) FROM t");
   REQUIRE(count.ok());
@@ -75,34 +85,27 @@ TEST_CASE("statement cache: a second copy of one text and texts beyond the capac
 
 TEST_CASE("statement cache: a reused reader statement sees the writer's later commits") {
   TempDir dir;
-  StorageConfig storage;
-  storage.path = dir.File("a.db");
-  Result<std::unique_ptr<Database>> writer = Database::Open(storage);
-  REQUIRE(writer.ok());
-  REQUIRE((*writer)->Exec("CREATE TABLE t (a INTEGER)", "create").ok());
-  Result<std::unique_ptr<Database>> reader = Database::OpenReader(storage.path);
+  std::unique_ptr<Database> writer = WriterWithTable(dir.File("a.db"));
+  Result<std::unique_ptr<Database>> reader = Database::OpenReader(dir.File("a.db"));
   REQUIRE(reader.ok());
   CHECK(Count(**reader) == 0);
-  REQUIRE((*writer)->Exec("INSERT INTO t VALUES (1)", "insert").ok());
+  REQUIRE(writer->Exec("INSERT INTO t VALUES (1)", "insert").ok());
   // The parked statement was reset, so it reads a new snapshot rather than the old one.
   CHECK(Count(**reader) == 1);
 }
 
 TEST_CASE("statement cache: a parked statement follows a schema change") {
   TempDir dir;
-  StorageConfig storage;
-  storage.path = dir.File("a.db");
-  Result<std::unique_ptr<Database>> db = Database::Open(storage);
-  REQUIRE(db.ok());
-  REQUIRE((*db)->Exec("CREATE TABLE t (a INTEGER); INSERT INTO t VALUES (1)", "create").ok());
+  std::unique_ptr<Database> db = WriterWithTable(dir.File("a.db"));
+  REQUIRE(db->Exec("INSERT INTO t VALUES (1)", "insert").ok());
   auto second_column = [&] {
-    Result<Statement> select = (*db)->Prepare("SELECT * FROM t");
+    Result<Statement> select = db->Prepare("SELECT * FROM t");
     REQUIRE(select.ok());
     REQUIRE(select->Step("select").value());
     return select->Text(1);
   };
   CHECK(second_column() == "");  // no such column yet: SQLite answers NULL
-  REQUIRE((*db)->Exec("ALTER TABLE t ADD COLUMN b TEXT DEFAULT 'added'", "alter").ok());
+  REQUIRE(db->Exec("ALTER TABLE t ADD COLUMN b TEXT DEFAULT 'added'", "alter").ok());
   // sqlite3_prepare_v3 statements recompile after a schema change (sqlite.org/c3ref/prepare.html).
   CHECK(second_column() == "added");
 }
