@@ -17,7 +17,8 @@ command -v "$cxx" > /dev/null || { echo "fuzz: $cxx not found: skipped"; exit 77
 mkdir -p "$out/api-corpus" "$out/api-seeds"
 
 sources="$root/api/query_parameters.cpp $root/api/rfc3339.cpp $root/api/energy_series.cpp \
-  $root/api/http_server.cpp $root/api/connection_pool.cpp $root/api/problem.cpp $root/config/status.cpp \
+  $root/api/http_server.cpp $root/api/connection_pool.cpp $root/api/content_coding.cpp \
+  $root/api/problem.cpp $root/config/status.cpp \
   $root/config/listen_address.cpp \
   $root/daemon/metering/local_time.cpp $root/daemon/metering/bucket.cpp \
   $root/daemon/metering/energy.cpp $root/tests/fuzz/api_parameters_fuzz.cpp"
