@@ -14,6 +14,7 @@
 #include "api/energy_route.h"
 #include "api/health.h"
 #include "api/interop_routes.h"
+#include "api/json_text.h"
 #include "api/main_meter_routes.h"
 #include "api/metrics.h"
 #include "api/openapi_document.h"
@@ -208,32 +209,58 @@ Result<HttpResponse> Live(const ApiContext& context, const Database& db, const S
   Result<std::vector<ChannelReading>> latest = LatestReadings(context, db, now);
   if (!latest.ok()) return latest.status();
   const Config& config = *context.config;
-  std::vector<int> slot(config.circuits.size(), -1);  // circuit index -> position in output
-  json circuits = json::array();
-  for (int i : VisibleCircuits(config, scope)) {
-    slot[i] = static_cast<int>(circuits.size());
-    circuits.push_back({{"id", config.circuits[i].id}, {"watts", 0.0}, {"va", 0.0},
-                        {"amps", 0.0}, {"direction", DirectionName(config.circuits[i].direction)},
-                        {"reading_end", nullptr}});
-  }
+  // Each circuit's sums over its channels' latest readings.
+  struct LiveCircuit {
+    double watts = 0, va = 0, amps = 0, volts = 0;
+    std::optional<UnixMs> reading_end;  // the newest of its readings; none: no reading yet
+  };
+  std::vector<LiveCircuit> live(config.circuits.size());
   for (const ChannelReading& reading : *latest) {
-    int circuit = context.series->circuit_of_channel[reading.channel];
-    if (circuit < 0 || slot[circuit] < 0) continue;
-    json& entry = circuits[slot[circuit]];
-    entry["watts"] = entry["watts"].get<double>() + reading.real_watts;
-    entry["va"] = entry["va"].get<double>() + reading.apparent_va;
-    entry["amps"] = entry["amps"].get<double>() + reading.amps;
-    entry["volts"] = reading.volts;
-    if (entry["reading_end"].is_null() || entry["reading_end"].get<UnixMs>() < reading.end_ms) {
-      entry["reading_end"] = reading.end_ms;
-      entry["age_s"] = (now - reading.end_ms) / 1000.0;
-    }
+    const int circuit = context.series->circuit_of_channel[reading.channel];
+    if (circuit < 0) continue;
+    LiveCircuit& sum = live[circuit];
+    sum.watts += reading.real_watts;
+    sum.va += reading.apparent_va;
+    sum.amps += reading.amps;
+    sum.volts = reading.volts;
+    if (!sum.reading_end || *sum.reading_end < reading.end_ms) sum.reading_end = reading.end_ms;
   }
-  return HttpResponse::Json(json{{"circuits", circuits},
-                                 {"units",
-                                  {{"watts", "W"}, {"va", "VA"}, {"amps", "A"}, {"volts", "V"},
-                                   {"age_s", "s"}, {"reading_end", "ms since 1970-01-01Z"}}}}
-                                .dump());
+  // Written as text, members in key order as dump() would (api/json_text.h says why).
+  std::string text = "{\"circuits\":[";
+  bool first = true;
+  for (int i : VisibleCircuits(config, scope)) {
+    const LiveCircuit& sum = live[i];
+    text += first ? "{" : ",{";
+    first = false;
+    if (sum.reading_end) {
+      text += "\"age_s\":";
+      AppendJsonNumber((now - *sum.reading_end) / 1000.0, &text);
+      text += ',';
+    }
+    text += "\"amps\":";
+    AppendJsonNumber(sum.amps, &text);
+    text += ",\"direction\":";
+    AppendJsonString(DirectionName(config.circuits[i].direction), &text);
+    text += ",\"id\":";
+    AppendJsonString(config.circuits[i].id, &text);
+    text += ",\"reading_end\":";
+    text += sum.reading_end ? std::to_string(*sum.reading_end) : "null";
+    text += ",\"va\":";
+    AppendJsonNumber(sum.va, &text);
+    if (sum.reading_end) {
+      text += ",\"volts\":";
+      AppendJsonNumber(sum.volts, &text);
+    }
+    text += ",\"watts\":";
+    AppendJsonNumber(sum.watts, &text);
+    text += '}';
+  }
+  text += ']';
+  CloseObjectAfter(json{{"units",
+                         {{"watts", "W"}, {"va", "VA"}, {"amps", "A"}, {"volts", "V"},
+                          {"age_s", "s"}, {"reading_end", "ms since 1970-01-01Z"}}}},
+                   &text);
+  return HttpResponse::Json(std::move(text));
 }
 
 Result<HttpResponse> Circuits(const ApiContext& context, const Scope& scope) {

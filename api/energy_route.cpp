@@ -2,11 +2,13 @@
 #include "api/energy_route.h"
 
 #include <algorithm>
+#include <string_view>
 
 #include "api/access.h"
 #include "api/api_limits.h"
 #include "api/csv.h"
 #include "api/energy_cost.h"
+#include "api/json_text.h"
 #include "api/query_parameters.h"
 #include "api/rfc3339.h"
 #include "storage/daily_rollup.h"
@@ -42,6 +44,30 @@ EnergyRow SumRow(const Config& config, std::string id, std::string name,
   if (row.consumption.has_data) row.quality = Worse(row.quality, row.consumption.quality);
   if (row.exported.has_data) row.quality = Worse(row.quality, row.exported.quality);
   return row;
+}
+
+// Appends the "rows" array: what dump() writes for an object per row with a member per
+// column (json_text.h says why it is not built as json values). Column names are plain
+// identifiers, written as they are.
+void AppendRowsJson(const std::vector<EnergyRow>& rows, std::vector<EnergyColumn> columns,
+                    std::string* out) {
+  std::sort(columns.begin(), columns.end(), [](const EnergyColumn& a, const EnergyColumn& b) {
+    return std::string_view(a.name) < std::string_view(b.name);  // dump()'s member order
+  });
+  *out += '[';
+  for (const EnergyRow& row : rows) {
+    if (&row != &rows.front()) *out += ',';
+    *out += '{';
+    for (const EnergyColumn& column : columns) {
+      if (&column != &columns.front()) *out += ',';
+      *out += '"';
+      *out += column.name;
+      *out += "\":";
+      *out += column.value(row).dump();
+    }
+    *out += '}';
+  }
+  *out += ']';
 }
 
 Result<EnergyGrouping> ParseGrouping(const HttpRequest& request) {
@@ -285,16 +311,12 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
     response.headers.emplace_back("Ampledger-Time-Zone", zone.zone_name());
     return response;
   }
-  json out = json::array();
   json units = json::object();
   for (const EnergyColumn& column : columns) {
     if (*column.unit) units[column.name] = column.unit;
   }
   double consumption_wh = 0, export_wh = 0, cost = 0;
   for (const EnergyRow& row : rows) {
-    json entry = json::object();
-    for (const EnergyColumn& column : columns) entry[column.name] = column.value(row);
-    out.push_back(std::move(entry));
     consumption_wh += row.consumption.real_wh;
     export_wh += row.exported.real_wh;
     cost += row.cost.value_or(0);
@@ -304,15 +326,15 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
                                                          : "rate_period";
   json total = {{"consumption_kwh", consumption_wh / 1000.0}, {"export_kwh", export_wh / 1000.0}};
   if (schedule != nullptr) total["cost"] = cost;
-  json body = {{"by", by},
-               {"from", from_text},
-               {"to", to_text},
-               {"time_zone", zone.zone_name()},
-               {"units", units},
-               {"rows", out},
-               {"total", total}};
-  if (schedule != nullptr) body["currency"] = config.site.currency;
-  return HttpResponse::Json(body.dump());
+  // The members before "rows" (in key order) and those after it are dumped apart; the rows'
+  // text goes between them.
+  json before = {{"by", by}, {"from", from_text}};
+  if (schedule != nullptr) before["currency"] = config.site.currency;
+  json after = {{"time_zone", zone.zone_name()}, {"to", to_text}, {"total", total}, {"units", units}};
+  std::string text = OpenObjectUpTo(before, "rows");
+  AppendRowsJson(rows, columns, &text);
+  CloseObjectAfter(after, &text);
+  return HttpResponse::Json(std::move(text));
 }
 
 }  // namespace ampledger

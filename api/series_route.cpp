@@ -2,13 +2,13 @@
 #include "api/series_route.h"
 
 #include <algorithm>
-#include <cmath>
 #include <optional>
 #include <nlohmann/json.hpp>
 
 #include "api/api_limits.h"
 #include "api/csv.h"
 #include "api/energy_series.h"
+#include "api/json_text.h"
 #include "api/query_parameters.h"
 #include "api/rfc3339.h"
 #include "storage/daily_rollup.h"
@@ -57,27 +57,6 @@ HttpResponse CsvResponse(std::string body, const LocalTime& zone) {
   return response;
 }
 
-// nlohmann::json's text of one number, so the hand-written points below read exactly as a
-// dump would: what its serializer writes for a double (null when not finite, else its
-// shortest round-trip digits with ".0" on whole values, from detail::to_chars), without
-// making a serializer per number. tests/api/series_route_test.cpp holds the two equal.
-void AppendNumber(double value, std::string* out) {
-  if (!std::isfinite(value)) {
-    *out += "null";
-    return;
-  }
-  char text[64];
-  const char* end = nlohmann::detail::to_chars(text, text + sizeof text, value);
-  out->append(text, static_cast<std::size_t>(end - text));
-}
-void AppendNumberOrNull(bool present, double value, std::string* out) {
-  if (present) {
-    AppendNumber(value, out);
-  } else {
-    *out += "null";
-  }
-}
-
 // Appends the "points" array of a period series as JSON text, byte for byte what
 // nlohmann::json::dump() writes for an array of objects with these members (an object's
 // members in its sorted key order). Written directly because building a year of days as json
@@ -98,17 +77,17 @@ void AppendPointsJson(const std::vector<SeriesPoint>& points, const LocalTime& z
     if (start_ms != point.period.start_ms) start = FormatLocalRfc3339(zone, point.period.start_ms);
     std::string end = FormatLocalRfc3339(zone, point.period.end_ms);
     out += "{\"apparent_energy_vah\":";
-    AppendNumber(point.apparent_vah, &out);
+    AppendJsonNumber(point.apparent_vah, &out);
     out += ",\"coverage\":";
-    AppendNumber(point.coverage, &out);
+    AppendJsonNumber(point.coverage, &out);
     out += ",\"end\":\"" + end + "\",\"energy_wh\":";
-    AppendNumber(point.real_wh, &out);
+    AppendJsonNumber(point.real_wh, &out);
     out += ",\"max_w\":";
-    AppendNumberOrNull(point.has_data, point.max_watts, &out);
+    AppendJsonNumberOrNull(point.has_data, point.max_watts, &out);
     out += ",\"mean_w\":";
-    AppendNumber(point.MeanWatts(), &out);
+    AppendJsonNumber(point.MeanWatts(), &out);
     out += ",\"min_w\":";
-    AppendNumberOrNull(point.has_data, point.min_watts, &out);
+    AppendJsonNumberOrNull(point.has_data, point.min_watts, &out);
     out += ",\"quality\":";
     out += point.has_data ? "\"" + std::string(QualityName(point.quality)) + "\"" : "null";
     out += ",\"start\":\"" + start + "\"}";
@@ -151,8 +130,8 @@ Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config
   }
   json circuit_ids = json::array();
   for (int circuit : subject.circuits) circuit_ids.push_back(config.circuits[circuit].id);
-  // nlohmann::json writes an object's members in key order: the members before "points" and
-  // those after it are dumped apart and the points' text goes between them.
+  // The members before "points" (in key order) and those after it are dumped apart; the
+  // points' text goes between them.
   json before = {{"circuits", circuit_ids}, {"from", FormatLocalRfc3339(zone, query.from_ms)}};
   json after = {{"step", SeriesStepName(query.step)},
                 {"to", FormatLocalRfc3339(zone, query.to_ms)},
@@ -163,12 +142,9 @@ Result<HttpResponse> PeriodSeries(const SeriesQuery& query, const Config& config
                   {"coverage", "fraction of the period measured, 0..1"}}},
                 {"total_energy_kwh", total_wh / 1000.0}};
   (std::string(subject.kind) < "points" ? before : after)[subject.kind] = subject.id;
-  std::string text = before.dump();
-  text.back() = ',';  // the closing brace
-  text += "\"points\":";
+  std::string text = OpenObjectUpTo(before, "points");
   AppendPointsJson(points, zone, &text);
-  text += ',';
-  text.append(after.dump(), 1);  // without the opening brace
+  CloseObjectAfter(after, &text);
   return HttpResponse::Json(std::move(text));
 }
 
