@@ -283,6 +283,16 @@ inline json ProblemOf(const httplib::Result& result) {
 const std::string kSpringDay =
     "from=2026-03-08T00:00:00-06:00&to=2026-03-09T00:00:00-05:00";
 const std::string kFallDay = "from=2026-11-01T00:00:00-05:00&to=2026-11-02T00:00:00-06:00";
+// A series of every step that has periods, for circuits and units; in March b-heat has
+// readings on 3 of its days, so most of its points have no data.
+const std::vector<std::string> kSeriesOfEveryStep = {
+    "/v1/circuits/a-heat/series?" + kSpringDay + "&step=hour",
+    "/v1/circuits/a-heat/series?" + kSpringDay + "&step=15m",
+    "/v1/units/a/series?" + kFallDay + "&step=hour",
+    "/v1/circuits/b-heat/series?from=2026-03-01T00:00:00-06:00&to=2026-04-01T00:00:00-05:00"
+    "&step=day",
+    "/v1/units/b/series?from=2026-03-01T00:00:00-06:00&to=2026-05-01T00:00:00-05:00&step=month",
+};
 
 inline std::vector<std::string> Ids(const json& list) {
   std::vector<std::string> ids;

@@ -1,7 +1,7 @@
 // tests/api/json_text_test.cpp
 // JSON written as text (api/json_text.h) against nlohmann::json's own dump() of the same
-// values, byte for byte: the pieces, then the routes that use them with a row per circuit
-// (/v1/live, /v1/energy). The series route has its own test (series_route_test.cpp).
+// values, byte for byte: the pieces, then the routes that use them, with a row per circuit
+// (/v1/live, /v1/energy) or per period (series; series_route_test.cpp checks their points).
 #include "api/json_text.h"
 
 #include <doctest/doctest.h>
@@ -55,14 +55,15 @@ TEST_SUITE("api") {
     CHECK(alone == "{\"m\":[{\"n\":1}]}");
   }
 
-  TEST_CASE_FIXTURE(ApiFixture, "live values and energy rows read as dump() of themselves") {
-    const std::vector<std::string> paths = {
+  TEST_CASE_FIXTURE(ApiFixture, "answers written as text read as dump() of themselves") {
+    std::vector<std::string> paths = {
         "/v1/live",
         "/v1/energy?" + kSpringDay,
         "/v1/energy?" + kSpringDay + "&by=unit",
         "/v1/energy?" + kSpringDay + "&by=rate_period",
         "/v1/energy?" + kFallDay,
     };
+    paths.insert(paths.end(), kSeriesOfEveryStep.begin(), kSeriesOfEveryStep.end());
     for (const std::string& path : paths) {
       CAPTURE(path);
       httplib::Result result = Get(path, admin);
@@ -70,8 +71,10 @@ TEST_SUITE("api") {
       REQUIRE(result->status == 200);
       const json parsed = json::parse(result->body);
       CHECK(parsed.dump() == result->body);
-      const json& rows = parsed.contains("rows") ? parsed["rows"] : parsed["circuits"];
-      CHECK(rows.size() > 0);
+      const char* rows = parsed.contains("rows")     ? "rows"
+                         : parsed.contains("points") ? "points"
+                                                     : "circuits";
+      CHECK(parsed[rows].size() > 0);
     }
   }
 }
