@@ -330,7 +330,8 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
   // text goes between them.
   json before = {{"by", by}, {"from", from_text}};
   if (schedule != nullptr) before["currency"] = config.site.currency;
-  json after = {{"time_zone", zone.zone_name()}, {"to", to_text}, {"total", total}, {"units", units}};
+  json after = {
+      {"time_zone", zone.zone_name()}, {"to", to_text}, {"total", total}, {"units", units}};
   std::string text = OpenObjectUpTo(before, "rows");
   AppendRowsJson(rows, columns, &text);
   CloseObjectAfter(after, &text);

@@ -28,8 +28,10 @@ TEST_SUITE("api") {
     std::string absent;
     AppendJsonNumberOrNull(false, 3.0, &absent);
     CHECK(absent == "null");
-    for (const std::string& value : std::vector<std::string>{"", "a-heat", "say \"hi\"", "back\\slash", "tab\there",
-                              std::string("nul\0byte", 8), "caf\xC3\xA9", "\x7f"}) {
+    const std::vector<std::string> strings = {
+        "", "a-heat", "say \"hi\"", "back\\slash", "tab\there", std::string("nul\0byte", 8),
+        "caf\xC3\xA9", "\x7f"};
+    for (const std::string& value : strings) {
       CAPTURE(value);
       std::string text;
       AppendJsonString(value, &text);
