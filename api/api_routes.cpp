@@ -226,7 +226,8 @@ Result<HttpResponse> Live(const ApiContext& context, const Database& db, const S
     if (!sum.reading_end || *sum.reading_end < reading.end_ms) sum.reading_end = reading.end_ms;
   }
   // Written as text, members in key order as dump() would (api/json_text.h says why).
-  std::string text = "{\"circuits\":[";
+  std::string text = OpenObjectUpTo(json::object(), "circuits");
+  text += '[';
   bool first = true;
   for (int i : VisibleCircuits(config, scope)) {
     const LiveCircuit& sum = live[i];

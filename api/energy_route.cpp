@@ -47,8 +47,7 @@ EnergyRow SumRow(const Config& config, std::string id, std::string name,
 }
 
 // Appends the "rows" array: what dump() writes for an object per row with a member per
-// column (json_text.h says why it is not built as json values). Column names are plain
-// identifiers, written as they are.
+// column (json_text.h says why it is not built as json values).
 void AppendRowsJson(const std::vector<EnergyRow>& rows, std::vector<EnergyColumn> columns,
                     std::string* out) {
   std::sort(columns.begin(), columns.end(), [](const EnergyColumn& a, const EnergyColumn& b) {
@@ -60,9 +59,8 @@ void AppendRowsJson(const std::vector<EnergyRow>& rows, std::vector<EnergyColumn
     *out += '{';
     for (const EnergyColumn& column : columns) {
       if (&column != &columns.front()) *out += ',';
-      *out += '"';
-      *out += column.name;
-      *out += "\":";
+      AppendJsonString(column.name, out);
+      *out += ':';
       *out += column.value(row).dump();
     }
     *out += '}';
