@@ -190,6 +190,7 @@ Result<HttpResponse> Metrics(const ApiContext& context, const Database& db,
   const struct mallinfo2 heap = mallinfo2();
   snapshot.heap_in_use_bytes = heap.uordblks + heap.hblkhd;
   snapshot.heap_free_bytes = heap.fordblks;
+  snapshot.sqlite_memory_bytes = static_cast<std::uint64_t>(SqliteMemoryInUseBytes());
   for (size_t i = 0; i < live.size(); ++i) {
     if (seen[i]) snapshot.live.push_back(live[i]);
   }

@@ -137,6 +137,10 @@ std::string FormatMetrics(const MetricsSnapshot& snapshot, MetricsFormat format)
   exposition.Family("ampledger_heap_free_bytes", "gauge",
                     "Freed heap memory malloc keeps for reuse rather than returning it.", "bytes");
   out += "ampledger_heap_free_bytes " + std::to_string(snapshot.heap_free_bytes) + "\n";
+  exposition.Family("ampledger_sqlite_memory_bytes", "gauge",
+                    "Of the heap in use, what SQLite holds (page caches, schemas, statements).",
+                    "bytes");
+  out += "ampledger_sqlite_memory_bytes " + std::to_string(snapshot.sqlite_memory_bytes) + "\n";
 
   exposition.Family("ampledger_circuit_power_watts", "gauge",
                     "Latest mean real power per circuit (export circuits: power exported).",

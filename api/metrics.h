@@ -40,6 +40,9 @@ struct MetricsSnapshot {
   // bytes it keeps for reuse. Growth of the first is a leak; of the second, fragmentation.
   std::uint64_t heap_in_use_bytes = 0;
   std::uint64_t heap_free_bytes = 0;
+  // Of heap in use, what SQLite holds: page caches fill up to each connection's cache_size as
+  // queries touch pages, so this grows after start without being a leak.
+  std::uint64_t sqlite_memory_bytes = 0;
   std::vector<CircuitPower> live;    // circuits with a reading in the last few minutes
   const MqttStats* mqtt = nullptr;   // the MQTT publisher's; nullptr = [mqtt] is off
 };

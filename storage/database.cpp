@@ -306,4 +306,6 @@ Status Database::Migrate() {
   return Status();
 }
 
+std::int64_t SqliteMemoryInUseBytes() { return sqlite3_memory_used(); }
+
 }  // namespace ampledger

@@ -23,6 +23,7 @@
 
 #include <sqlite3.h>
 
+#include <cstdint>
 #include <memory>
 #include <string>
 #include <string_view>
@@ -76,5 +77,9 @@ class Database {
   // Enough for every query the API asks of one reader connection.
   mutable StatementCache statements_{64};
 };
+
+// SQLite's own count of the memory it holds for every connection in the process: page caches,
+// parsed schemas, prepared statements (sqlite3_memory_used). Part of malloc's heap in use.
+std::int64_t SqliteMemoryInUseBytes();
 
 }  // namespace ampledger

@@ -19,6 +19,7 @@ TEST_SUITE("api") {
     snapshot.ingest = &stats;
     snapshot.database_bytes = 4096;
     snapshot.heap_in_use_bytes = 3'000'000;
+    snapshot.sqlite_memory_bytes = 1'250'000;
     snapshot.live = {{"dryer \"new\"", "consumption", 4800}, {"solar", "export", 1234.5}};
     const std::string text = FormatMetrics(snapshot, MetricsFormat::kOpenMetrics);
 
@@ -37,6 +38,9 @@ TEST_SUITE("api") {
                     "Heap memory allocated and not freed (malloc's count).\n"
                     "ampledger_heap_in_use_bytes 3000000\n") != std::string::npos);
     CHECK(text.find("ampledger_heap_free_bytes 0\n") != std::string::npos);
+    CHECK(text.find("# TYPE ampledger_sqlite_memory_bytes gauge\n# UNIT ampledger_sqlite_memory_"
+                    "bytes bytes\n") != std::string::npos);
+    CHECK(text.find("ampledger_sqlite_memory_bytes 1250000\n") != std::string::npos);
     CHECK(text.find("ampledger_circuit_power_watts{circuit=\"dryer \\\"new\\\"\","
                     "direction=\"consumption\"} 4800.0\n") != std::string::npos);
     CHECK(text.find("{circuit=\"solar\",direction=\"export\"} 1234.5\n") != std::string::npos);
