@@ -22,17 +22,17 @@ using nlohmann::json;
 // The row of `circuits` (positions in `visible`) summed over `range`.
 EnergyRow SumRow(const Config& config, std::string id, std::string name,
                  const std::vector<int>& positions, const std::vector<int>& visible,
-                 const std::vector<std::vector<CircuitBucket>>& buckets, const TimeRange& range) {
+                 const std::vector<CircuitTotal>& totals, const TimeRange& range) {
   EnergyRow row{std::move(id), std::move(name), {}, {}, {}, 0, false, Quality::kMeasured, {}};
-  std::vector<std::vector<CircuitBucket>> drawn, exported;
+  std::vector<CircuitTotal> drawn, exported;
   for (int position : positions) {
     const int circuit = visible[position];
     row.circuits.push_back(circuit);
     (config.circuits[circuit].direction == Direction::kExport ? exported : drawn)
-        .push_back(buckets[position]);
+        .push_back(totals[position]);
   }
-  if (!drawn.empty()) row.consumption = SumIntoPeriods({range}, drawn).front();
-  if (!exported.empty()) row.exported = SumIntoPeriods({range}, exported).front();
+  if (!drawn.empty()) row.consumption = SumTotals(range, drawn);
+  if (!exported.empty()) row.exported = SumTotals(range, exported);
   row.consumption.period = row.exported.period = range;
   if (!row.circuits.empty()) {
     // Each side's coverage is its own circuits' average: weight them by circuit count.
@@ -158,14 +158,14 @@ std::string CsvValue(const json& value) {
 
 std::vector<EnergyRow> GroupEnergy(const Config& config, const Scope& scope,
                                    EnergyGrouping grouping, const std::vector<int>& visible,
-                                   const std::vector<std::vector<CircuitBucket>>& buckets,
+                                   const std::vector<CircuitTotal>& totals,
                                    const TimeRange& range) {
   std::vector<EnergyRow> rows;
   if (grouping == EnergyGrouping::kCircuit) {
     for (size_t position = 0; position < visible.size(); ++position) {
       const CircuitConfig& circuit = config.circuits[visible[position]];
       rows.push_back(SumRow(config, circuit.id, circuit.name, {static_cast<int>(position)},
-                            visible, buckets, range));
+                            visible, totals, range));
     }
     return rows;
   }
@@ -179,11 +179,11 @@ std::vector<EnergyRow> GroupEnergy(const Config& config, const Scope& scope,
     const UnitConfig& unit_config = config.units[unit];
     if (VisibleUnit(config, scope, unit_config.id) < 0) continue;
     rows.push_back(SumRow(config, unit_config.id, unit_config.name, positions_of_unit[unit],
-                          visible, buckets, range));
+                          visible, totals, range));
   }
   if (scope.SeesWholeSite() && !of_no_unit.empty()) {
     rows.push_back(SumRow(config, "", "shared circuits, and circuits of no unit", of_no_unit,
-                          visible, buckets, range));
+                          visible, totals, range));
   }
   return rows;
 }
@@ -265,23 +265,37 @@ Result<HttpResponse> AnswerEnergy(const HttpRequest& request, const Config& conf
   }
 
   const std::vector<int> visible = VisibleCircuits(config, scope);
-  // A priced answer needs each 15-minute bucket (its rate period); an unpriced one sums whole
-  // local days from the daily rollup, which makes a year's answer cheap.
-  Result<std::vector<std::vector<CircuitBucket>>> buckets =
-      schedule != nullptr ? ReadBucketsForCircuits(db, series, visible, *from, *to)
-                          : ReadDaysAndBucketsForCircuits(db, series, zone, visible, *from, *to);
-  if (!buckets.ok()) return buckets.status();
+  // A priced answer needs each 15-minute bucket (its rate period). An unpriced one needs only
+  // each circuit's total: it sums whole local days from the daily rollup, which makes a year's
+  // answer cheap, and keeps one circuit's rows at a time, so its memory does not grow with the
+  // range (the soak's answer over its whole run, tests/reliability/REPORT.md).
+  std::vector<CircuitTotal> totals(visible.size());
+  std::vector<std::vector<CircuitBucket>> buckets;
+  if (schedule != nullptr) {
+    Result<std::vector<std::vector<CircuitBucket>>> read =
+        ReadBucketsForCircuits(db, series, visible, *from, *to);
+    if (!read.ok()) return read.status();
+    buckets = std::move(read).value();
+    for (size_t i = 0; i < buckets.size(); ++i) totals[i] = TotalOf(buckets[i]);
+  } else if (Status read = VisitDaysAndBucketsForCircuits(
+                 db, series, zone, visible, *from, *to,
+                 [&totals](size_t i, const std::vector<CircuitBucket>& elements) {
+                   totals[i] = TotalOf(elements);
+                 });
+             !read.ok()) {
+    return read;
+  }
   const TimeRange range{*from, *to};
   std::vector<EnergyRow> rows;
   if (*grouping == EnergyGrouping::kRatePeriod) {
     Result<std::vector<EnergyRow>> periods =
-        RatePeriodRows(config, *schedule, zone, visible, *buckets, range);
+        RatePeriodRows(config, *schedule, zone, visible, buckets, range);
     if (!periods.ok()) return periods.status();
     rows = std::move(periods).value();
   } else {
-    rows = GroupEnergy(config, scope, *grouping, visible, *buckets, range);
+    rows = GroupEnergy(config, scope, *grouping, visible, totals, range);
     if (schedule != nullptr) {
-      if (Status priced = PriceRows(config, *schedule, zone, visible, *buckets, rows);
+      if (Status priced = PriceRows(config, *schedule, zone, visible, buckets, rows);
           !priced.ok()) {
         return priced;
       }

@@ -46,7 +46,8 @@ struct EnergyRow {
   std::string name;
   std::vector<int> circuits;  // indexes into Config::circuits
   // Sums over the range: consumption circuits' energy and export circuits' energy apart,
-  // because adding energy drawn to energy exported would mean nothing.
+  // because adding energy drawn to energy exported would mean nothing. Without power bounds
+  // (SumTotals).
   SeriesPoint consumption;
   SeriesPoint exported;
   double coverage = 0;  // measured fraction of the range, averaged over the row's circuits
@@ -56,11 +57,11 @@ struct EnergyRow {
   std::optional<double> cost;
 };
 
-// The rows of `grouping` for the circuits and units `scope` may see, summed from `buckets`
-// (parallel to `visible`, as ReadBucketsForCircuits returns them) over `range`.
+// The rows of `grouping` for the circuits and units `scope` may see, summed from each
+// circuit's total over `range` (`totals` parallel to `visible`).
 std::vector<EnergyRow> GroupEnergy(const Config& config, const Scope& scope,
                                    EnergyGrouping grouping, const std::vector<int>& visible,
-                                   const std::vector<std::vector<CircuitBucket>>& buckets,
+                                   const std::vector<CircuitTotal>& totals,
                                    const TimeRange& range);
 
 // One column of the answer: its name in JSON and in the CSV header, its unit (or "" when it

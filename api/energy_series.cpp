@@ -175,4 +175,34 @@ std::vector<SeriesPoint> SumIntoPeriods(const std::vector<TimeRange>& periods,
   return points;
 }
 
+CircuitTotal TotalOf(const std::vector<CircuitBucket>& buckets) {
+  CircuitTotal total;
+  for (const CircuitBucket& bucket : buckets) {
+    total.real_wh += bucket.real_wh;
+    total.apparent_vah += bucket.apparent_vah;
+    total.coverage_sum += bucket.coverage;
+    total.quality = Worse(total.quality, bucket.quality);
+    total.has_data = true;
+  }
+  return total;
+}
+
+SeriesPoint SumTotals(const TimeRange& range, const std::vector<CircuitTotal>& circuits) {
+  SeriesPoint point;
+  point.period = range;
+  double coverage_sum = 0;
+  for (const CircuitTotal& circuit : circuits) {
+    point.real_wh += circuit.real_wh;
+    point.apparent_vah += circuit.apparent_vah;
+    coverage_sum += circuit.coverage_sum;
+    if (circuit.has_data) point.quality = Worse(point.quality, circuit.quality);
+    point.has_data = point.has_data || circuit.has_data;
+  }
+  // SumIntoPeriods' rule: measured bucket-time over the period's buckets, per circuit.
+  const double buckets = static_cast<double>(range.DurationMs()) / kMsPerBucket;
+  const double circuit_count = std::max<std::size_t>(1, circuits.size());
+  point.coverage = buckets > 0 ? coverage_sum / (buckets * circuit_count) : 0;
+  return point;
+}
+
 }  // namespace ampledger

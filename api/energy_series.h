@@ -49,4 +49,21 @@ struct SeriesPoint {
 std::vector<SeriesPoint> SumIntoPeriods(const std::vector<TimeRange>& periods,
                                         const std::vector<std::vector<CircuitBucket>>& circuits);
 
+// One circuit's buckets over one range, reduced to what a sum over that range needs. Summing
+// circuits' totals with SumTotals gives what SumIntoPeriods gives for that one period, except
+// the power bounds, which need the circuits' buckets side by side: an answer over one range
+// can keep one of these per circuit instead of every bucket.
+struct CircuitTotal {
+  double real_wh = 0;
+  double apparent_vah = 0;
+  double coverage_sum = 0;  // the buckets' coverages added (a whole day element counts its own)
+  Quality quality = Quality::kMeasured;  // the worst of the buckets
+  bool has_data = false;                 // any bucket at all
+};
+CircuitTotal TotalOf(const std::vector<CircuitBucket>& buckets);
+
+// `circuits` summed over `range` (bucket-aligned), as SumIntoPeriods({range}, their buckets)
+// with min_watts and max_watts left 0.
+SeriesPoint SumTotals(const TimeRange& range, const std::vector<CircuitTotal>& circuits);
+
 }  // namespace ampledger

@@ -123,9 +123,10 @@ Status DailyRollup::SumDay(const TimeRange& day) {
   return Status();
 }
 
-Result<std::vector<std::vector<CircuitBucket>>> ReadDaysAndBucketsForCircuits(
+Status VisitDaysAndBucketsForCircuits(
     const Database& db, const SeriesMap& series, const LocalTime& zone,
-    const std::vector<int>& circuit_indexes, UnixMs from_ms, UnixMs to_ms) {
+    const std::vector<int>& circuit_indexes, UnixMs from_ms, UnixMs to_ms,
+    const std::function<void(std::size_t i, const std::vector<CircuitBucket>& elements)>& visit) {
   Result<Statement> buckets = db.Prepare(kSelectBucketsSql);
   if (!buckets.ok()) return buckets.status();
   Result<Statement> days = db.Prepare(kSelectDaysSql);
@@ -147,14 +148,26 @@ Result<std::vector<std::vector<CircuitBucket>>> ReadDaysAndBucketsForCircuits(
       }
     }
   }
-  std::vector<std::vector<CircuitBucket>> out(circuit_indexes.size());
+  std::vector<CircuitBucket> elements;
   for (std::size_t i = 0; i < circuit_indexes.size() && status.ok(); ++i) {
     const std::int64_t id = series.circuit_ids[circuit_indexes[i]];
-    status = AppendRollupRows(*buckets, id, from_ms, days_from, &out[i]);
-    if (status.ok()) status = AppendRollupRows(*days, id, days_from, days_to, &out[i]);
-    if (status.ok()) status = AppendRollupRows(*buckets, id, days_to, to_ms, &out[i]);
+    elements.clear();
+    status = AppendRollupRows(*buckets, id, from_ms, days_from, &elements);
+    if (status.ok()) status = AppendRollupRows(*days, id, days_from, days_to, &elements);
+    if (status.ok()) status = AppendRollupRows(*buckets, id, days_to, to_ms, &elements);
+    if (status.ok()) visit(i, elements);
   }
   (void)db.Exec("COMMIT", "read rollups");
+  return status;
+}
+
+Result<std::vector<std::vector<CircuitBucket>>> ReadDaysAndBucketsForCircuits(
+    const Database& db, const SeriesMap& series, const LocalTime& zone,
+    const std::vector<int>& circuit_indexes, UnixMs from_ms, UnixMs to_ms) {
+  std::vector<std::vector<CircuitBucket>> out(circuit_indexes.size());
+  Status status = VisitDaysAndBucketsForCircuits(
+      db, series, zone, circuit_indexes, from_ms, to_ms,
+      [&out](std::size_t i, const std::vector<CircuitBucket>& elements) { out[i] = elements; });
   if (!status.ok()) return status;
   return out;
 }

@@ -12,6 +12,7 @@
 // rebuilds the whole table from `rollup`.
 #pragma once
 
+#include <functional>
 #include <map>
 #include <memory>
 #include <vector>
@@ -69,5 +70,13 @@ class DailyRollup {
 Result<std::vector<std::vector<CircuitBucket>>> ReadDaysAndBucketsForCircuits(
     const Database& db, const SeriesMap& series, const LocalTime& zone,
     const std::vector<int>& circuit_indexes, UnixMs from_ms, UnixMs to_ms);
+
+// The same elements handed to `visit` one circuit at a time (i is the position in
+// `circuit_indexes`), in the same read snapshot. An answer that reduces each circuit to a sum
+// then holds one circuit's elements at a time: its memory does not grow with the range.
+Status VisitDaysAndBucketsForCircuits(
+    const Database& db, const SeriesMap& series, const LocalTime& zone,
+    const std::vector<int>& circuit_indexes, UnixMs from_ms, UnixMs to_ms,
+    const std::function<void(std::size_t i, const std::vector<CircuitBucket>& elements)>& visit);
 
 }  // namespace ampledger

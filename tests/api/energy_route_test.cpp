@@ -1,5 +1,5 @@
 // tests/api/energy_route_test.cpp
-// GroupEnergy on hand-made buckets: consumption and export kept apart, coverage weighted by
+// GroupEnergy on hand-made buckets' totals: consumption and export kept apart, coverage weighted by
 // circuit, and what each scope's rows hold. (The route itself, over a real server and
 // database, is in api_routes_test.cpp.)
 #include "api/energy_route.h"
@@ -71,10 +71,12 @@ TEST_SUITE("api") {
          Bucket(3 * kMsPerBucket, 100)},
         {Bucket(0, 50, Quality::kEstimated), Bucket(kMsPerBucket, 30)},
         {}};
+    std::vector<CircuitTotal> totals;
+    for (const std::vector<CircuitBucket>& circuit : buckets) totals.push_back(TotalOf(circuit));
     const Scope admin{Scope::Kind::kAdmin, ""};
 
     std::vector<EnergyRow> units =
-        GroupEnergy(config, admin, EnergyGrouping::kUnit, visible, buckets, hour);
+        GroupEnergy(config, admin, EnergyGrouping::kUnit, visible, totals, hour);
     REQUIRE(units.size() == 2);
     CHECK(units[0].id == "upper");
     CHECK(units[0].circuits == std::vector<int>{0, 1});
@@ -90,7 +92,7 @@ TEST_SUITE("api") {
     CHECK(units[1].coverage == 0);
 
     std::vector<EnergyRow> circuits =
-        GroupEnergy(config, admin, EnergyGrouping::kCircuit, visible, buckets, hour);
+        GroupEnergy(config, admin, EnergyGrouping::kCircuit, visible, totals, hour);
     REQUIRE(circuits.size() == 3);
     CHECK(circuits[1].id == "roof-pv");
     CHECK(circuits[1].consumption.real_wh == 0);
@@ -99,7 +101,7 @@ TEST_SUITE("api") {
     // A unit token: its unit's row only, no row for the circuits of no unit.
     const Scope upper{Scope::Kind::kUnit, "upper"};
     std::vector<EnergyRow> own =
-        GroupEnergy(config, upper, EnergyGrouping::kUnit, {0, 1}, {buckets[0], buckets[1]}, hour);
+        GroupEnergy(config, upper, EnergyGrouping::kUnit, {0, 1}, {totals[0], totals[1]}, hour);
     REQUIRE(own.size() == 1);
     CHECK(own[0].id == "upper");
 

@@ -125,6 +125,49 @@ TEST_SUITE("api") {
     CHECK(points[1].real_wh == 0);
     CHECK(points[1].coverage == 0);
   }
+
+  TEST_CASE("SumTotals of circuits' totals is SumIntoPeriods over one range, bounds aside") {
+    const UnixMs t0 = At("2026-03-08T06:00:00Z");
+    auto bucket = [](UnixMs start, double wh, double coverage, Quality quality) {
+      CircuitBucket b;
+      b.start_ms = start;
+      b.real_wh = wh;
+      b.apparent_vah = wh * 1.5;
+      b.coverage = coverage;
+      b.quality = quality;
+      return b;
+    };
+    // A whole-day element (coverage the sum of its 96 buckets', storage/daily_rollup.h) beside
+    // 15-minute buckets, a circuit with nothing, and one estimated bucket.
+    const UnixMs day = 96 * kMsPerBucket;
+    const std::vector<std::vector<CircuitBucket>> circuits = {
+        {bucket(t0, 4000, 90, Quality::kMeasured), bucket(t0 + day, 20, 1, Quality::kMeasured)},
+        {},
+        {bucket(t0 + day, 5, 0.25, Quality::kEstimated)},
+    };
+    const TimeRange range{t0, t0 + day + 2 * kMsPerBucket};
+    std::vector<CircuitTotal> totals;
+    for (const std::vector<CircuitBucket>& buckets : circuits) totals.push_back(TotalOf(buckets));
+    CHECK_FALSE(totals[1].has_data);
+
+    const SeriesPoint by_buckets = SumIntoPeriods({range}, circuits).front();
+    const SeriesPoint by_totals = SumTotals(range, totals);
+    CHECK(by_totals.real_wh == doctest::Approx(by_buckets.real_wh));
+    CHECK(by_totals.apparent_vah == doctest::Approx(by_buckets.apparent_vah));
+    CHECK(by_totals.coverage == doctest::Approx(by_buckets.coverage));
+    CHECK(by_totals.coverage == doctest::Approx((90 + 1 + 0.25) / (98.0 * 3)));
+    CHECK(by_totals.quality == by_buckets.quality);
+    CHECK(by_totals.quality == Quality::kEstimated);
+    CHECK(by_totals.has_data);
+    CHECK(by_totals.period.start_ms == range.start_ms);
+    CHECK(by_totals.period.end_ms == range.end_ms);
+
+    // Circuits with no data at all: no data, coverage 0, as SumIntoPeriods.
+    const SeriesPoint empty = SumTotals(range, {totals[1]});
+    CHECK_FALSE(empty.has_data);
+    CHECK(empty.coverage == 0);
+    CHECK(empty.quality == SumIntoPeriods({range}, {{}}).front().quality);
+  }
 }
 
 }  // namespace
