@@ -7,6 +7,14 @@
 namespace ampledger {
 namespace {
 
+// Measured bucket-time over the period's buckets, averaged over the circuits: `coverage_sum` is
+// the circuits' bucket coverages added.
+double Coverage(const TimeRange& period, double coverage_sum, std::size_t circuit_count) {
+  const double buckets = static_cast<double>(period.DurationMs()) / kMsPerBucket;
+  const double circuits = static_cast<double>(std::max<std::size_t>(1, circuit_count));
+  return buckets > 0 ? coverage_sum / (buckets * circuits) : 0;
+}
+
 UnixMs FloorMod(UnixMs value, UnixMs divisor) { return ((value % divisor) + divisor) % divisor; }
 
 const char* PeriodWord(SeriesStep step) {
@@ -150,7 +158,7 @@ std::vector<SeriesPoint> SumIntoPeriods(const std::vector<TimeRange>& periods,
       sum.quality = Worse(sum.quality, bucket.quality);
     }
   }
-  const double circuit_count = std::max<std::size_t>(1, circuits.size());
+  const std::size_t circuit_count = circuits.size();
   std::vector<SeriesPoint> points;
   points.reserve(periods.size());
   for (const TimeRange& period : periods) {
@@ -168,8 +176,7 @@ std::vector<SeriesPoint> SumIntoPeriods(const std::vector<TimeRange>& periods,
       point.has_data = true;
       coverage_sum += sum.coverage;
     }
-    const double buckets = static_cast<double>(period.DurationMs()) / kMsPerBucket;
-    point.coverage = buckets > 0 ? coverage_sum / (buckets * circuit_count) : 0;
+    point.coverage = Coverage(period, coverage_sum, circuit_count);
     points.push_back(point);
   }
   return points;
@@ -198,10 +205,7 @@ SeriesPoint SumTotals(const TimeRange& range, const std::vector<CircuitTotal>& c
     if (circuit.has_data) point.quality = Worse(point.quality, circuit.quality);
     point.has_data = point.has_data || circuit.has_data;
   }
-  // SumIntoPeriods' rule: measured bucket-time over the period's buckets, per circuit.
-  const double buckets = static_cast<double>(range.DurationMs()) / kMsPerBucket;
-  const double circuit_count = std::max<std::size_t>(1, circuits.size());
-  point.coverage = buckets > 0 ? coverage_sum / (buckets * circuit_count) : 0;
+  point.coverage = Coverage(range, coverage_sum, circuits.size());
   return point;
 }
 

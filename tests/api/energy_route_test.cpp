@@ -1,7 +1,7 @@
 // tests/api/energy_route_test.cpp
-// GroupEnergy on hand-made buckets' totals: consumption and export kept apart, coverage weighted by
-// circuit, and what each scope's rows hold. (The route itself, over a real server and
-// database, is in api_routes_test.cpp.)
+// GroupEnergy on hand-made buckets' totals: consumption and export kept apart, coverage
+// weighted by circuit, and what each scope's rows hold. (The route itself, over a real server
+// and database, is in api_routes_test.cpp.)
 #include "api/energy_route.h"
 
 #include <doctest/doctest.h>

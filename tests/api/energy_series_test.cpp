@@ -12,6 +12,19 @@ UnixMs At(const char* text) { return ParseRfc3339(text).value(); }
 
 LocalTime Chicago() { return LocalTime::ForZone("America/Chicago").value(); }
 
+// A bucket of `wh` with apparent energy and power bounds in fixed proportion to it.
+CircuitBucket MakeBucket(UnixMs start, double wh, double coverage, Quality quality) {
+  CircuitBucket b;
+  b.start_ms = start;
+  b.real_wh = wh;
+  b.apparent_vah = wh * 1.25;
+  b.min_watts = wh * 2;
+  b.max_watts = wh * 6;
+  b.coverage = coverage;
+  b.quality = quality;
+  return b;
+}
+
 TEST_SUITE("api") {
   // DST days from the IANA tz data on the machine: America/Chicago springs forward on
   // 2026-03-08 and falls back on 2026-11-01 (second Sunday of March, first of November).
@@ -94,21 +107,10 @@ TEST_SUITE("api") {
 
   TEST_CASE("SumIntoPeriods adds circuits and buckets; missing buckets count as unmeasured") {
     const UnixMs t0 = At("2026-03-08T06:00:00Z");
-    auto bucket = [](UnixMs start, double wh, double coverage, Quality quality) {
-      CircuitBucket b;
-      b.start_ms = start;
-      b.real_wh = wh;
-      b.apparent_vah = wh * 1.25;
-      b.min_watts = wh * 2;
-      b.max_watts = wh * 6;
-      b.coverage = coverage;
-      b.quality = quality;
-      return b;
-    };
     std::vector<std::vector<CircuitBucket>> circuits = {
-        {bucket(t0, 100, 1, Quality::kMeasured), bucket(t0 + kMsPerBucket, 50, 0.5,
-                                                        Quality::kDerived)},
-        {bucket(t0, 10, 1, Quality::kMeasured)},
+        {MakeBucket(t0, 100, 1, Quality::kMeasured),
+         MakeBucket(t0 + kMsPerBucket, 50, 0.5, Quality::kDerived)},
+        {MakeBucket(t0, 10, 1, Quality::kMeasured)},
     };
     std::vector<TimeRange> periods = {{t0, t0 + 2 * kMsPerBucket},
                                       {t0 + 2 * kMsPerBucket, t0 + 4 * kMsPerBucket}};
@@ -128,22 +130,14 @@ TEST_SUITE("api") {
 
   TEST_CASE("SumTotals of circuits' totals is SumIntoPeriods over one range, bounds aside") {
     const UnixMs t0 = At("2026-03-08T06:00:00Z");
-    auto bucket = [](UnixMs start, double wh, double coverage, Quality quality) {
-      CircuitBucket b;
-      b.start_ms = start;
-      b.real_wh = wh;
-      b.apparent_vah = wh * 1.5;
-      b.coverage = coverage;
-      b.quality = quality;
-      return b;
-    };
     // A whole-day element (coverage the sum of its 96 buckets', storage/daily_rollup.h) beside
     // 15-minute buckets, a circuit with nothing, and one estimated bucket.
     const UnixMs day = 96 * kMsPerBucket;
     const std::vector<std::vector<CircuitBucket>> circuits = {
-        {bucket(t0, 4000, 90, Quality::kMeasured), bucket(t0 + day, 20, 1, Quality::kMeasured)},
+        {MakeBucket(t0, 4000, 90, Quality::kMeasured),
+         MakeBucket(t0 + day, 20, 1, Quality::kMeasured)},
         {},
-        {bucket(t0 + day, 5, 0.25, Quality::kEstimated)},
+        {MakeBucket(t0 + day, 5, 0.25, Quality::kEstimated)},
     };
     const TimeRange range{t0, t0 + day + 2 * kMsPerBucket};
     std::vector<CircuitTotal> totals;
